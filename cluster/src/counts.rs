@@ -1,0 +1,277 @@
+//! Counting words and within-line bigrams, and ranking the vocabulary.
+//!
+//! Memory grows with the number of distinct words and distinct bigrams,
+//! never with the length of the text: lines are streamed through one
+//! reused buffer and tokens are interned to ids as they are read.
+
+use rustc_hash::FxHashMap;
+
+use crate::error::{Error, Result};
+use crate::text::{split_tokens, LineReader, Source};
+use crate::tokenize::tokenize;
+
+/// How raw text is turned into tokens before counting.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct TokenOptions {
+    /// Split raw text at Unicode word boundaries (see
+    /// [`tokenize`](crate::tokenize::tokenize)) instead of taking the
+    /// tokens separated by spaces and tabs as they are. Default: off.
+    pub tokenize: bool,
+    /// Lowercase every token (Unicode lowercase mapping). Default: off.
+    pub lowercase: bool,
+}
+
+/// Streams text into word and bigram counts.
+#[derive(Default)]
+pub struct Counter {
+    options: TokenOptions,
+    ids: FxHashMap<Box<str>, u32>,
+    words: Vec<Box<str>>,
+    counts: Vec<u64>,
+    bigrams: FxHashMap<u64, u64>,
+    tokens: u64,
+    sentences: u64,
+    bytes: u64,
+    scratch: Vec<u32>,
+    lower: String,
+}
+
+impl Counter {
+    /// A counter that tokenises as `options` say.
+    pub fn new(options: TokenOptions) -> Counter {
+        Counter { options, ..Counter::default() }
+    }
+
+    /// The bytes of text read so far, for progress reports.
+    pub fn bytes_read(&self) -> u64 {
+        self.bytes
+    }
+
+    /// Counts one line of text. A line without tokens is not a sentence.
+    pub fn add_line(&mut self, line: &str) {
+        self.bytes += line.len() as u64 + 1;
+        let mut ids = std::mem::take(&mut self.scratch);
+        ids.clear();
+        if self.options.tokenize {
+            let mut tokens = Vec::new();
+            tokenize(line, &mut tokens);
+            for token in tokens {
+                ids.push(self.intern(token));
+            }
+        } else {
+            for token in split_tokens(line) {
+                ids.push(self.intern(token));
+            }
+        }
+        if !ids.is_empty() {
+            self.sentences += 1;
+            self.tokens += ids.len() as u64;
+            for pair in ids.windows(2) {
+                let key = (u64::from(pair[0]) << 32) | u64::from(pair[1]);
+                *self.bigrams.entry(key).or_insert(0) += 1;
+            }
+        }
+        self.scratch = ids;
+    }
+
+    fn intern(&mut self, token: &str) -> u32 {
+        let token = if self.options.lowercase
+            && token.chars().any(|c| c.is_uppercase() || !c.is_ascii())
+        {
+            self.lower.clear();
+            self.lower.extend(token.chars().flat_map(char::to_lowercase));
+            self.lower.as_str()
+        } else {
+            token
+        };
+        let id = match self.ids.get(token) {
+            Some(&id) => id,
+            None => {
+                let id = self.words.len() as u32;
+                self.ids.insert(token.into(), id);
+                self.words.push(token.into());
+                self.counts.push(0);
+                id
+            }
+        };
+        self.counts[id as usize] += 1;
+        id
+    }
+
+    /// Reads every line of `source`; `progress` is called now and then
+    /// with the bytes read so far in all sources.
+    pub fn add_source(
+        &mut self,
+        source: &Source,
+        progress: &mut dyn FnMut(u64),
+    ) -> Result<()> {
+        let mut reader = LineReader::new(source.open()?, source.name());
+        let mut next_report = self.bytes + (1 << 20);
+        while let Some(line) = reader.next_line()? {
+            self.add_line(line);
+            if self.bytes >= next_report {
+                progress(self.bytes);
+                next_report = self.bytes + (1 << 20);
+            }
+        }
+        progress(self.bytes);
+        Ok(())
+    }
+
+    /// Ends counting: ranks the words and keeps those seen at least
+    /// `min_count` times, with the bigrams between them.
+    pub fn finish(self, min_count: u64) -> Counts {
+        let types = self.words.len();
+        let mut order: Vec<u32> = (0..types as u32).collect();
+        order.sort_unstable_by(|&a, &b| {
+            let (a, b) = (a as usize, b as usize);
+            self.counts[b].cmp(&self.counts[a]).then_with(|| {
+                self.words[a].as_bytes().cmp(self.words[b].as_bytes())
+            })
+        });
+        let kept = order
+            .iter()
+            .take_while(|&&id| self.counts[id as usize] >= min_count)
+            .count();
+        let mut rank = vec![u32::MAX; types];
+        for (r, &id) in order[..kept].iter().enumerate() {
+            rank[id as usize] = r as u32;
+        }
+        let mut bigrams: Vec<(u32, u32, u64)> = self
+            .bigrams
+            .iter()
+            .filter_map(|(&key, &count)| {
+                let left = rank[(key >> 32) as usize];
+                let right = rank[(key & 0xFFFF_FFFF) as usize];
+                (left != u32::MAX && right != u32::MAX)
+                    .then_some((left, right, count))
+            })
+            .collect();
+        bigrams.sort_unstable();
+        let mut words = Vec::with_capacity(kept);
+        let mut counts = Vec::with_capacity(kept);
+        let mut all_words = self.words;
+        for &id in &order[..kept] {
+            words.push(std::mem::take(&mut all_words[id as usize]).into());
+            counts.push(self.counts[id as usize]);
+        }
+        Counts {
+            words,
+            counts,
+            bigrams,
+            tokens: self.tokens,
+            sentences: self.sentences,
+            types: types as u64,
+            min_count,
+            options: self.options,
+        }
+    }
+}
+
+/// Word and bigram counts over a ranked vocabulary: words ordered by
+/// count, descending, ties by their bytes, ascending; word ids are ranks.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Counts {
+    /// The kept words, by rank.
+    pub words: Vec<String>,
+    /// Each kept word's count.
+    pub counts: Vec<u64>,
+    /// Bigrams `(left rank, right rank, count)` between kept words,
+    /// sorted, each pair once.
+    pub bigrams: Vec<(u32, u32, u64)>,
+    /// Tokens read, before the minimum count is applied.
+    pub tokens: u64,
+    /// Lines with at least one token.
+    pub sentences: u64,
+    /// Distinct words read, before the minimum count is applied.
+    pub types: u64,
+    /// The minimum count that was applied.
+    pub min_count: u64,
+    /// How the text was tokenised.
+    pub options: TokenOptions,
+}
+
+impl Counts {
+    /// Counts every line of `sources`.
+    pub fn from_sources(
+        sources: &[Source],
+        options: TokenOptions,
+        min_count: u64,
+        progress: &mut dyn FnMut(u64),
+    ) -> Result<Counts> {
+        let mut counter = Counter::new(options);
+        for source in sources {
+            counter.add_source(source, progress)?;
+        }
+        if counter.tokens == 0 {
+            let what = sources
+                .iter()
+                .map(|s| s.name().display().to_string())
+                .collect::<Vec<_>>()
+                .join(", ");
+            return Err(Error::EmptyInput { what });
+        }
+        Ok(counter.finish(min_count))
+    }
+
+    /// Counts the lines of an in-memory text.
+    pub fn from_text(
+        text: &str,
+        options: TokenOptions,
+        min_count: u64,
+    ) -> Counts {
+        let mut counter = Counter::new(options);
+        let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+        for line in text.lines() {
+            counter.add_line(line);
+        }
+        counter.finish(min_count)
+    }
+
+    /// The number of kept words.
+    pub fn len(&self) -> usize {
+        self.words.len()
+    }
+
+    /// Whether no word was kept.
+    pub fn is_empty(&self) -> bool {
+        self.words.is_empty()
+    }
+
+    /// The total count of the kept bigrams.
+    pub fn bigram_total(&self) -> u64 {
+        self.bigrams.iter().map(|b| b.2).sum()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ranks_by_count_then_bytes_and_counts_within_lines() {
+        let c =
+            Counts::from_text("b a b\nc a\n\n  \nb", Default::default(), 1);
+        assert_eq!(c.words, vec!["b", "a", "c"]);
+        assert_eq!(c.counts, vec![3, 2, 1]);
+        // b a, a b, c a: the line break between "a" and "b" is no bigram.
+        assert_eq!(c.bigrams, vec![(0, 1, 1), (1, 0, 1), (2, 1, 1)]);
+        assert_eq!((c.tokens, c.sentences, c.types), (6, 3, 3));
+    }
+
+    #[test]
+    fn min_count_drops_words_and_their_bigrams() {
+        let c = Counts::from_text("x y x z\ny x", Default::default(), 2);
+        assert_eq!(c.words, vec!["x", "y"]);
+        assert_eq!(c.bigrams, vec![(0, 1, 1), (1, 0, 2)]);
+        assert_eq!(c.types, 3);
+    }
+
+    #[test]
+    fn lowercase_merges_case_variants() {
+        let opts = TokenOptions { tokenize: false, lowercase: true };
+        let c = Counts::from_text("The the THE Ärger ärger", opts, 1);
+        assert_eq!(c.words, vec!["the", "ärger"]);
+        assert_eq!(c.counts, vec![3, 2]);
+    }
+}
