@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # The project's test command: sets up the outside references, then runs the
-# whole workspace's tests in the `checked` profile (optimised, with debug
-# assertions and overflow checks). Extra arguments go to `cargo test`, e.g.
+# whole workspace's tests in the `checked` profile (optimised, with overflow
+# checks; the heavy real-data checks run only in an optimised profile).
+# Extra arguments go to `cargo test`, e.g.
 #   scripts/test.sh -p lexiclade-cluster -- --nocapture
 set -euo pipefail
 

@@ -1,1 +1,59 @@
-fn main() {}
+//! The `lexiclade` command: parses arguments, reports progress and calls
+//! the libraries. Each subcommand lives in its own file under `cmd/`.
+
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+mod cmd;
+
+/// Learn word clusters from raw in-domain text and measure what they add
+/// to a sequence labeler.
+#[derive(Parser)]
+#[command(name = "lexiclade", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    Cluster(cmd::cluster::Args),
+    Show(cmd::show::Args),
+    Demo(cmd::demo::Args),
+    Bench(cmd::bench::Args),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match cli.command {
+        Command::Cluster(args) => cmd::cluster::run(args),
+        Command::Show(args) => cmd::show::run(args),
+        Command::Demo(args) => cmd::demo::run(args),
+        Command::Bench(args) => cmd::bench::run(args),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(err) => {
+            if is_broken_pipe(&err) {
+                return ExitCode::SUCCESS;
+            }
+            // One line: the chain of contexts, outermost first.
+            let message = format!("{err:#}").replace('\n', " ");
+            eprintln!("lexiclade: {message}");
+            if err.downcast_ref::<cmd::Internal>().is_some() {
+                ExitCode::from(1)
+            } else {
+                ExitCode::from(2)
+            }
+        }
+    }
+}
+
+fn is_broken_pipe(err: &anyhow::Error) -> bool {
+    err.chain().any(|cause| {
+        cause
+            .downcast_ref::<std::io::Error>()
+            .is_some_and(|e| e.kind() == std::io::ErrorKind::BrokenPipe)
+    })
+}

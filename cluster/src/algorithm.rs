@@ -68,11 +68,10 @@
 //! rows is computed in each with an expression symmetric in its operands,
 //! so results are bit-identical for any number of threads.
 
-use rayon::prelude::*;
-
-use crate::ami::{ami_nats, bits, NLogN};
+use crate::ami::{ami_nats, bits};
 use crate::counts::Counts;
 use crate::error::{Error, Result};
+use crate::window::{NewWord, Window};
 
 /// Relative width of a near-tie between two losses; see [`near_tie`].
 pub const TIE_RELATIVE: f64 = 1e-12;
@@ -194,27 +193,75 @@ pub fn cluster(
             merges_total: words as u64 - 1,
         })
     };
+    let (mut right, mut left) = (Vec::new(), Vec::new());
+    let mut add = |window: &mut Window, word: usize, slot: usize| {
+        right.clear();
+        left.clear();
+        let mut itself = 0.0;
+        for &(x, c) in graph.right_of(word) {
+            match (x as usize).cmp(&word) {
+                std::cmp::Ordering::Less => {
+                    right.push((window.slot_of(x), c as f64))
+                }
+                std::cmp::Ordering::Equal => itself = c as f64,
+                std::cmp::Ordering::Greater => break,
+            }
+        }
+        for &(x, c) in graph.left_of(word) {
+            if x as usize >= word {
+                break;
+            }
+            left.push((window.slot_of(x), c as f64));
+        }
+        let bigrams = NewWord { right: &right, left: &left, itself };
+        window.add_word(word as u32, slot, &bigrams);
+    };
     for word in 0..classes {
-        window.add_word(&graph, word, word);
+        add(&mut window, word, word);
     }
     let mut free = classes;
     for word in classes..words {
-        window.add_word(&graph, word, free);
-        let (merge, freed) = window.merge_best(words + merges.len());
+        add(&mut window, word, free);
+        let (merge, freed) = window.merge_best((words + merges.len()) as u32);
         merges.push(merge);
         free = freed;
         report(merges.len(), word + 1);
     }
-    let class_of = window.flat_classes(words);
-    let class_nodes: Vec<u32> = window.class_nodes_by_class(&class_of);
+    let class_of = flat_classes(&window, words);
+    let mut class_nodes = vec![0u32; classes];
+    for (slot, node) in window.classes() {
+        let first = window.members(slot)[0] as usize;
+        class_nodes[class_of[first] as usize] = node;
+    }
     while window.active_count() > 1 {
-        let (merge, _) = window.merge_best(words + merges.len());
+        let (merge, _) = window.merge_best((words + merges.len()) as u32);
         merges.push(merge);
         report(merges.len(), words);
     }
     let class_paths = paths(words, &merges, &class_nodes);
     let ami_bits = bits(flat_ami(counts, &class_of, classes));
     Ok(Hierarchy { classes, merges, class_of, class_paths, ami_bits })
+}
+
+/// Each word's flat class, numbered by the rank of its class's most
+/// frequent word.
+fn flat_classes(window: &Window, words: usize) -> Vec<u32> {
+    let mut slots: Vec<(u32, usize)> = window
+        .classes()
+        .map(|(slot, _)| {
+            let first =
+                *window.members(slot).iter().min().expect("a class has words");
+            (first, slot)
+        })
+        .collect();
+    slots.sort_unstable();
+    let mut class_of = vec![0u32; words];
+    for (class, &(_, slot)) in slots.iter().enumerate() {
+        for &w in window.members(slot) {
+            class_of[w as usize] = class as u32;
+        }
+    }
+    class_of
 }
 
 /// The AMI in nats of a flat partition over all bigrams of `counts`.
@@ -296,569 +343,6 @@ impl Neighbours {
     /// Bigrams `(x, word)` as `(x, count)`, by `x`.
     fn left_of(&self, word: usize) -> &[(u32, u64)] {
         &self.inc[self.in_start[word]..self.in_start[word + 1]]
-    }
-}
-
-/// Work below this many pair updates is done on one thread: a rayon
-/// call costs a few microseconds, as much as this many updates.
-const PARALLEL_MIN_PAIRS: usize = 1 << 15;
-
-/// The classes in the window: `cap` slots, dense tables indexed by slot.
-struct Window {
-    cap: usize,
-    g: NLogN,
-    /// `n[a * cap + b]`: bigrams from class `a` to class `b`.
-    n: Vec<u64>,
-    /// The transpose of `n`, so that columns are contiguous too.
-    nt: Vec<u64>,
-    left: Vec<u64>,
-    right: Vec<u64>,
-    /// The pair losses in units of `F`; symmetric, `INFINITY` on the
-    /// diagonal and for inactive slots.
-    loss: Vec<f64>,
-    best_val: Vec<f64>,
-    best_idx: Vec<usize>,
-    dirty: Vec<bool>,
-    active: Vec<bool>,
-    node: Vec<u32>,
-    members: Vec<Vec<u32>>,
-    slot_of_word: Vec<u32>,
-    total: u64,
-    f: f64,
-    /// Scratch: which slots take part in the current update.
-    mark: Vec<bool>,
-}
-
-impl Window {
-    fn new(cap: usize, words: usize) -> Window {
-        Window {
-            cap,
-            g: NLogN::new(),
-            n: vec![0; cap * cap],
-            nt: vec![0; cap * cap],
-            left: vec![0; cap],
-            right: vec![0; cap],
-            loss: vec![f64::INFINITY; cap * cap],
-            best_val: vec![f64::INFINITY; cap],
-            best_idx: vec![0; cap],
-            dirty: vec![false; cap],
-            active: vec![false; cap],
-            node: vec![0; cap],
-            members: vec![Vec::new(); cap],
-            slot_of_word: vec![u32::MAX; words],
-            total: 0,
-            f: 0.0,
-            mark: vec![false; cap],
-        }
-    }
-
-    fn active_count(&self) -> usize {
-        self.active.iter().filter(|&&a| a).count()
-    }
-
-    fn active_slots(&self) -> Vec<usize> {
-        (0..self.cap).filter(|&a| self.active[a]).collect()
-    }
-
-    fn ami_bits(&self) -> f64 {
-        if self.total == 0 {
-            0.0
-        } else {
-            let n = self.total as f64;
-            bits(self.f / n + n.ln())
-        }
-    }
-
-    /// `M(a,b)` from the given marginals.
-    fn marg(&self, la: u64, lb: u64, ra: u64, rb: u64) -> f64 {
-        self.g.phi(la, lb) + self.g.phi(ra, rb)
-    }
-
-    /// The four cells among `a` and `b` becoming one.
-    fn block(&self, aa: u64, ab: u64, ba: u64, bb: u64) -> f64 {
-        let g = &self.g;
-        g.g(aa) + g.g(ab) + g.g(ba) + g.g(bb) - g.g(aa + ab + ba + bb)
-    }
-
-    /// Adds word `word` as a new class in the free slot `s`.
-    fn add_word(&mut self, graph: &Neighbours, word: usize, s: usize) {
-        let cap = self.cap;
-        let mut self_count = 0;
-        let mut touched: Vec<usize> = Vec::new();
-        for &(x, c) in graph.right_of(word) {
-            let x = x as usize;
-            if x > word {
-                break;
-            }
-            if x == word {
-                self_count = c;
-                continue;
-            }
-            let a = self.slot_of_word[x] as usize;
-            self.n[s * cap + a] += c;
-            self.nt[a * cap + s] += c;
-            if !self.mark[a] {
-                self.mark[a] = true;
-                touched.push(a);
-            }
-        }
-        for &(x, c) in graph.left_of(word) {
-            let x = x as usize;
-            if x >= word {
-                break;
-            }
-            let a = self.slot_of_word[x] as usize;
-            self.n[a * cap + s] += c;
-            self.nt[s * cap + a] += c;
-            if !self.mark[a] {
-                self.mark[a] = true;
-                touched.push(a);
-            }
-        }
-        self.n[s * cap + s] += self_count;
-        self.nt[s * cap + s] += self_count;
-        touched.sort_unstable();
-        let d = touched;
-
-        // Marginals, the objective and the bigram total.
-        let old: Vec<(u64, u64)> =
-            d.iter().map(|&a| (self.left[a], self.right[a])).collect();
-        let mut f_delta = self.g.g(self_count);
-        let mut row_sum = self_count;
-        let mut col_sum = self_count;
-        for (k, &a) in d.iter().enumerate() {
-            let to = self.n[a * cap + s];
-            let from = self.n[s * cap + a];
-            row_sum += from;
-            col_sum += to;
-            f_delta += self.g.g(to) + self.g.g(from);
-            self.left[a] += to;
-            self.right[a] += from;
-            let (lo, ro) = old[k];
-            f_delta -= self.g.g(self.left[a]) - self.g.g(lo);
-            f_delta -= self.g.g(self.right[a]) - self.g.g(ro);
-        }
-        self.left[s] = row_sum;
-        self.right[s] = col_sum;
-        f_delta -= self.g.g(row_sum) + self.g.g(col_sum);
-        self.f += f_delta;
-        self.total += row_sum + col_sum - self_count;
-        self.slot_of_word[word] = s as u32;
-        self.active[s] = true;
-        self.node[s] = word as u32;
-        self.members[s] = vec![word as u32];
-
-        // Rows of the neighbours: the new term x = s and their changed
-        // marginals. `old_of` gives every slot's marginals before the add.
-        let mut old_left = self.left.clone();
-        let mut old_right = self.right.clone();
-        for (k, &a) in d.iter().enumerate() {
-            old_left[a] = old[k].0;
-            old_right[a] = old[k].1;
-        }
-        let active = self.active_slots();
-        let mut loss = std::mem::take(&mut self.loss);
-        {
-            let this = &*self;
-            let row_update = |a: usize, row: &mut [f64]| {
-                let (as_, sa) = (this.n[a * cap + s], this.n[s * cap + a]);
-                for &b in &active {
-                    if b == a || b == s {
-                        continue;
-                    }
-                    let (bs, sb) = (this.n[b * cap + s], this.n[s * cap + b]);
-                    let m_old = this.marg(
-                        old_left[a],
-                        old_left[b],
-                        old_right[a],
-                        old_right[b],
-                    );
-                    let m_new = this.marg(
-                        this.left[a],
-                        this.left[b],
-                        this.right[a],
-                        this.right[b],
-                    );
-                    let delta =
-                        this.g.phi(as_, bs) + this.g.phi(sa, sb) + m_old
-                            - m_new;
-                    row[b] += delta;
-                }
-            };
-            let work = d.len() * active.len();
-            update_rows(&mut loss, cap, &this.mark, work, row_update);
-        }
-        self.loss = loss;
-
-        // The new class's row, summed over its neighbours.
-        let mut new_row = vec![f64::INFINITY; cap];
-        for &b in &active {
-            if b == s {
-                continue;
-            }
-            let mut a_sb = 0.0;
-            for &x in &d {
-                if x == b {
-                    continue;
-                }
-                a_sb += self.g.phi(self.n[s * cap + x], self.n[b * cap + x])
-                    + self.g.phi(self.n[x * cap + s], self.n[x * cap + b]);
-            }
-            a_sb += self.block(
-                self.n[s * cap + s],
-                self.n[s * cap + b],
-                self.n[b * cap + s],
-                self.n[b * cap + b],
-            );
-            new_row[b] = a_sb
-                - self.marg(
-                    self.left[s],
-                    self.left[b],
-                    self.right[s],
-                    self.right[b],
-                );
-        }
-        self.loss[s * cap..(s + 1) * cap].copy_from_slice(&new_row);
-        self.loss[s * cap + s] = f64::INFINITY;
-        self.mirror_and_track(&d, &[s], &[], &active);
-        for &a in &d {
-            self.mark[a] = false;
-        }
-    }
-
-    /// Copies the updated rows `rows` (marked in `self.mark`) and the
-    /// new rows `fresh` into the columns of every other active row, and
-    /// keeps each row's minimum; `gone` are slots just made inactive.
-    fn mirror_and_track(
-        &mut self,
-        rows: &[usize],
-        fresh: &[usize],
-        gone: &[usize],
-        active: &[usize],
-    ) {
-        let cap = self.cap;
-        for &b in active {
-            if fresh.contains(&b) {
-                continue;
-            }
-            let copied = if self.mark[b] { &[][..] } else { rows };
-            for &a in copied.iter().chain(fresh) {
-                let v = self.loss[a * cap + b];
-                self.loss[b * cap + a] = v;
-                self.touch(b, a, v);
-            }
-            for &a in gone {
-                self.loss[b * cap + a] = f64::INFINITY;
-                if self.best_idx[b] == a {
-                    self.dirty[b] = true;
-                }
-            }
-        }
-        for &a in rows.iter().chain(fresh) {
-            self.dirty[a] = true;
-        }
-        for a in 0..cap {
-            if self.dirty[a] {
-                self.rescan(a);
-            }
-        }
-    }
-
-    /// Records that entry `(b, a)` is now `v`, keeping row `b`'s minimum
-    /// or marking the row for a rescan.
-    fn touch(&mut self, b: usize, a: usize, v: f64) {
-        if self.dirty[b] {
-            return;
-        }
-        if a == self.best_idx[b] {
-            if v <= self.best_val[b] {
-                self.best_val[b] = v;
-            } else {
-                self.dirty[b] = true;
-            }
-        } else if v < self.best_val[b] {
-            self.best_val[b] = v;
-            self.best_idx[b] = a;
-        }
-    }
-
-    fn rescan(&mut self, a: usize) {
-        let row = &self.loss[a * self.cap..(a + 1) * self.cap];
-        let (mut best, mut idx) = (f64::INFINITY, 0);
-        for (b, &v) in row.iter().enumerate() {
-            if v < best {
-                best = v;
-                idx = b;
-            }
-        }
-        self.best_val[a] = best;
-        self.best_idx[a] = idx;
-        self.dirty[a] = false;
-    }
-
-    /// The pair to merge next, by the rule in the module docs.
-    fn best_pair(&self) -> (usize, usize) {
-        let scale = self.total.max(1) as f64;
-        let min = (0..self.cap)
-            .filter(|&a| self.active[a])
-            .map(|a| self.best_val[a])
-            .fold(f64::INFINITY, f64::min);
-        let p = (0..self.cap)
-            .filter(|&a| {
-                self.active[a] && near_tie(min, self.best_val[a], scale)
-            })
-            .min_by_key(|&a| self.node[a])
-            .expect("at least two active classes");
-        let row = &self.loss[p * self.cap..(p + 1) * self.cap];
-        let q = (0..self.cap)
-            .filter(|&b| {
-                self.active[b] && b != p && near_tie(min, row[b], scale)
-            })
-            .min_by_key(|&b| self.node[b])
-            .expect("the row holding the minimum has a near-tied entry");
-        (p, q)
-    }
-
-    /// Makes the best merge; the merged class gets node number `node`.
-    /// Returns the merge and the slot it freed.
-    fn merge_best(&mut self, node: usize) -> (Merge, usize) {
-        let (i, j) = self.best_pair();
-        let cap = self.cap;
-        let lost = self.loss[i * cap + j];
-        let active: Vec<usize> = self
-            .active_slots()
-            .into_iter()
-            .filter(|&a| a != i && a != j)
-            .collect();
-
-        // Neighbour sets of i and j, without i and j themselves.
-        let support = |table: &[u64], c: usize| -> Vec<usize> {
-            active
-                .iter()
-                .copied()
-                .filter(|&a| table[c * cap + a] > 0)
-                .collect()
-        };
-        let (ti, tj) = (support(&self.nt, i), support(&self.nt, j));
-        let (si, sj) = (support(&self.n, i), support(&self.n, j));
-        let t_small = if ti.len() <= tj.len() { &ti } else { &tj };
-        let s_small = if si.len() <= sj.len() { &si } else { &sj };
-        let mut rows: Vec<usize> =
-            t_small.iter().chain(s_small).copied().collect();
-        rows.sort_unstable();
-        rows.dedup();
-        for &a in &rows {
-            self.mark[a] = true;
-        }
-
-        // 1. Pairs of other classes: terms x = i and x = j become one.
-        let mut loss = std::mem::take(&mut self.loss);
-        {
-            let this = &*self;
-            let row_update = |a: usize, row: &mut [f64]| {
-                let (ai, aj) = (this.n[a * cap + i], this.n[a * cap + j]);
-                let (ia, ja) = (this.n[i * cap + a], this.n[j * cap + a]);
-                let g = &this.g;
-                for &b in &active {
-                    if b == a {
-                        continue;
-                    }
-                    let mut delta = 0.0;
-                    if ai | aj != 0 {
-                        let (bi, bj) =
-                            (this.nt[i * cap + b], this.nt[j * cap + b]);
-                        if bi | bj != 0 {
-                            delta += g.phi(ai + aj, bi + bj)
-                                - g.phi(ai, bi)
-                                - g.phi(aj, bj);
-                        }
-                    }
-                    if ia | ja != 0 {
-                        let (ib, jb) =
-                            (this.n[i * cap + b], this.n[j * cap + b]);
-                        if ib | jb != 0 {
-                            delta += g.phi(ia + ja, ib + jb)
-                                - g.phi(ia, ib)
-                                - g.phi(ja, jb);
-                        }
-                    }
-                    row[b] += delta;
-                }
-            };
-            let work = rows.len() * active.len();
-            update_rows(&mut loss, cap, &this.mark, work, row_update);
-        }
-        self.loss = loss;
-
-        // 2. The merged class's row, derived from the row of the side
-        // with more neighbours (`k`), correcting where the other (`o`)
-        // has bigrams.
-        let (k, o, so, to) = if si.len() + ti.len() >= sj.len() + tj.len() {
-            (i, j, &sj, &tj)
-        } else {
-            (j, i, &si, &ti)
-        };
-        let new_row: Vec<f64> = {
-            let this = &*self;
-            let n = |a: usize, b: usize| this.n[a * cap + b];
-            let g = &this.g;
-            let (lm, rm) =
-                (this.left[i] + this.left[j], this.right[i] + this.right[j]);
-            let mm = n(i, i) + n(i, j) + n(j, i) + n(j, j);
-            let entry = |b: usize| -> f64 {
-                let a_old = this.loss[k * cap + b]
-                    + this.marg(
-                        this.left[k],
-                        this.left[b],
-                        this.right[k],
-                        this.right[b],
-                    );
-                let mut sum = 0.0;
-                for &x in so {
-                    if x != b {
-                        sum += g.phi(n(k, x) + n(o, x), n(b, x))
-                            - g.phi(n(k, x), n(b, x));
-                    }
-                }
-                for &x in to {
-                    if x != b {
-                        sum += g.phi(n(x, k) + n(x, o), n(x, b))
-                            - g.phi(n(x, k), n(x, b));
-                    }
-                }
-                let cross = g.phi(n(k, o), n(b, o)) + g.phi(n(o, k), n(o, b));
-                let old_block = this.block(n(k, k), n(k, b), n(b, k), n(b, b));
-                let new_block = this.block(
-                    mm,
-                    n(i, b) + n(j, b),
-                    n(b, i) + n(b, j),
-                    n(b, b),
-                );
-                let a_new = a_old + sum - cross - old_block + new_block;
-                a_new - this.marg(lm, this.left[b], rm, this.right[b])
-            };
-            if active.len() * (so.len() + to.len() + 1) >= PARALLEL_MIN_PAIRS {
-                active.par_iter().map(|&b| entry(b)).collect()
-            } else {
-                active.iter().map(|&b| entry(b)).collect()
-            }
-        };
-
-        // 3. Merge the counts into the slot with more words.
-        let (keep, gone) = if self.members[i].len() >= self.members[j].len() {
-            (i, j)
-        } else {
-            (j, i)
-        };
-        for x in 0..cap {
-            let v = self.n[gone * cap + x];
-            self.n[keep * cap + x] += v;
-        }
-        for x in 0..cap {
-            let v = self.n[x * cap + gone];
-            self.n[x * cap + keep] += v;
-        }
-        for x in 0..cap {
-            self.n[gone * cap + x] = 0;
-            self.n[x * cap + gone] = 0;
-        }
-        for a in 0..cap {
-            for b in [keep, gone] {
-                self.nt[b * cap + a] = self.n[a * cap + b];
-                self.nt[a * cap + b] = self.n[b * cap + a];
-            }
-        }
-        self.left[keep] += self.left[gone];
-        self.right[keep] += self.right[gone];
-        self.left[gone] = 0;
-        self.right[gone] = 0;
-        self.f -= lost;
-        let moved = std::mem::take(&mut self.members[gone]);
-        for &w in &moved {
-            self.slot_of_word[w as usize] = keep as u32;
-        }
-        self.members[keep].extend(moved);
-        let (c0, c1) = {
-            let (x, y) = (self.node[i], self.node[j]);
-            (x.min(y), x.max(y))
-        };
-        self.node[keep] = node as u32;
-        self.active[gone] = false;
-
-        // 4. Install the new row and retire the freed slot.
-        for x in 0..cap {
-            self.loss[keep * cap + x] = f64::INFINITY;
-            self.loss[gone * cap + x] = f64::INFINITY;
-        }
-        for (&b, &v) in active.iter().zip(&new_row) {
-            self.loss[keep * cap + b] = v;
-        }
-        self.best_val[gone] = f64::INFINITY;
-        self.dirty[gone] = false;
-        self.mirror_and_track(&rows, &[keep], &[gone], &active);
-        for &a in &rows {
-            self.mark[a] = false;
-        }
-        let merge =
-            Merge { child0: c0, child1: c1, ami_bits: self.ami_bits() };
-        (merge, gone)
-    }
-
-    /// Each word's flat class, numbered by the rank of its most frequent
-    /// word; words not clustered yet are not expected.
-    fn flat_classes(&self, words: usize) -> Vec<u32> {
-        let mut slots: Vec<(u32, usize)> = (0..self.cap)
-            .filter(|&a| self.active[a])
-            .map(|a| {
-                (*self.members[a].iter().min().expect("a class has words"), a)
-            })
-            .collect();
-        slots.sort_unstable();
-        let mut class_of = vec![0u32; words];
-        for (class, &(_, slot)) in slots.iter().enumerate() {
-            for &w in &self.members[slot] {
-                class_of[w as usize] = class as u32;
-            }
-        }
-        class_of
-    }
-
-    /// The node number of each flat class.
-    fn class_nodes_by_class(&self, class_of: &[u32]) -> Vec<u32> {
-        let mut nodes = vec![0u32; self.active_count()];
-        for a in 0..self.cap {
-            if self.active[a] {
-                let w = self.members[a][0] as usize;
-                nodes[class_of[w] as usize] = self.node[a];
-            }
-        }
-        nodes
-    }
-}
-
-/// Runs `update` on every row of `table` whose slot is marked, in
-/// parallel when `work` (pair updates) is large enough.
-fn update_rows<F>(
-    table: &mut [f64],
-    cap: usize,
-    mark: &[bool],
-    work: usize,
-    update: F,
-) where
-    F: Fn(usize, &mut [f64]) + Sync,
-{
-    if work >= PARALLEL_MIN_PAIRS {
-        table
-            .par_chunks_mut(cap)
-            .enumerate()
-            .filter(|(a, _)| mark[*a])
-            .for_each(|(a, row)| update(a, row));
-    } else {
-        for (a, row) in table.chunks_mut(cap).enumerate() {
-            if mark[a] {
-                update(a, row);
-            }
-        }
     }
 }
 
@@ -971,7 +455,7 @@ mod tests {
             tree.class_of.iter().collect();
         assert_eq!(classes.len(), 9);
         // Classes are numbered by their most frequent word.
-        let mut first_rank = vec![usize::MAX; 9];
+        let mut first_rank = [usize::MAX; 9];
         for (rank, &c) in tree.class_of.iter().enumerate() {
             first_rank[c as usize] = first_rank[c as usize].min(rank);
         }

@@ -70,9 +70,8 @@ impl Error {
 impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            Error::Io { path, source } => {
-                write!(f, "{}: {}", path.display(), source)
-            }
+            // The cause is the source, so chains print it once.
+            Error::Io { path, .. } => write!(f, "{}", path.display()),
             Error::InvalidUtf8 { path, line } => {
                 write!(f, "{}:{}: invalid UTF-8", path.display(), line)
             }

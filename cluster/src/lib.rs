@@ -41,10 +41,13 @@ pub mod algorithm;
 pub mod ami;
 pub mod counts;
 pub mod error;
+mod kernels;
 pub mod output;
+pub mod query;
 pub mod reference;
 pub mod text;
 pub mod tokenize;
+mod window;
 
 pub use algorithm::{cluster, ClusterParams, Hierarchy, Merge, Progress};
 pub use counts::{Counter, Counts, TokenOptions};

@@ -1,9 +1,10 @@
 //! The files of a cluster directory: writing a result and reading it
 //! back.
 //!
-//! * `clusters.tsv`: header `word	path	class	count`, then one row per
+//! * `clusters.tsv`: header `word path class count` (tab-separated, as
+//!   every row), then one row per
 //!   clustered word by rank (count descending, then bytes ascending).
-//! * `merges.tsv`: header `step	child0	child1	parent	ami_bits`, one row
+//! * `merges.tsv`: header `step child0 child1 parent ami_bits`, one row
 //!   per merge; `parent` is `V + step`, words are nodes `0..V` by rank.
 //! * `summary.json`: sizes, options, the AMI of the flat classes and
 //!   [`FORMAT_VERSION`].

@@ -1,0 +1,178 @@
+//! Output directories that appear whole or not at all.
+//!
+//! A command writes into a temporary sibling of its output directory and
+//! renames it into place at the end, so a failed or interrupted run
+//! leaves any previous output untouched and nothing half-written. A
+//! temporary directory left by a killed process is named
+//! `.NAME.partial-*` beside the output and can be deleted.
+
+use std::path::{Path, PathBuf};
+
+use anyhow::{bail, Context, Result};
+
+/// A temporary directory that becomes `target` on [`AtomicDir::commit`]
+/// and is removed if dropped before.
+pub struct AtomicDir {
+    target: PathBuf,
+    temp: tempfile::TempDir,
+}
+
+impl AtomicDir {
+    /// Prepares to write `target`. An existing non-empty directory is
+    /// refused unless `force`; an existing file is always refused.
+    pub fn create(target: &Path, force: bool) -> Result<AtomicDir> {
+        match std::fs::metadata(target) {
+            Ok(meta) if !meta.is_dir() => {
+                bail!("{}: exists and is not a directory", target.display())
+            }
+            Ok(_) => {
+                let mut entries = std::fs::read_dir(target)
+                    .with_context(|| target.display().to_string())?;
+                if entries.next().is_some() && !force {
+                    bail!(
+                        "{}: directory exists and is not empty (use --force \
+                         to replace it)",
+                        target.display()
+                    );
+                }
+            }
+            Err(_) => {}
+        }
+        let name = target
+            .file_name()
+            .with_context(|| {
+                format!("{}: not a directory name", target.display())
+            })?
+            .to_string_lossy()
+            .into_owned();
+        let parent = match target.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+            _ => PathBuf::from("."),
+        };
+        let temp = tempfile::Builder::new()
+            .prefix(&format!(".{name}.partial-"))
+            .tempdir_in(&parent)
+            .with_context(|| {
+                format!("{}: cannot create a directory here", parent.display())
+            })?;
+        Ok(AtomicDir { target: target.to_path_buf(), temp })
+    }
+
+    /// Where to write the files.
+    pub fn path(&self) -> &Path {
+        self.temp.path()
+    }
+
+    /// The directory the output will have.
+    pub fn target(&self) -> &Path {
+        &self.target
+    }
+
+    /// Moves the written directory into place, replacing what was there.
+    pub fn commit(self) -> Result<()> {
+        let temp = self.temp.keep();
+        let target = &self.target;
+        let result = (|| -> Result<()> {
+            if target.is_dir() {
+                // Move the old output aside first: a rename over a
+                // non-empty directory fails, and removing it before the
+                // new one is in place could lose both.
+                let old = tempfile::Builder::new()
+                    .prefix(".old-")
+                    .tempdir_in(temp.parent().unwrap_or(Path::new(".")))?
+                    .keep();
+                let aside = old.join("previous");
+                std::fs::rename(target, &aside)?;
+                if let Err(e) = std::fs::rename(&temp, target) {
+                    let _ = std::fs::rename(&aside, target);
+                    let _ = std::fs::remove_dir_all(&old);
+                    return Err(e.into());
+                }
+                std::fs::remove_dir_all(&old)?;
+            } else {
+                std::fs::rename(&temp, target)?;
+            }
+            Ok(())
+        })();
+        if result.is_err() {
+            let _ = std::fs::remove_dir_all(&temp);
+        }
+        result.with_context(|| {
+            format!("{}: cannot move the output into place", target.display())
+        })
+    }
+}
+
+/// Refuses an output that is one of the inputs or contains one: writing
+/// it would destroy what is being read.
+pub fn refuse_overlap(inputs: &[PathBuf], output: &Path) -> Result<()> {
+    let Ok(out) = output.canonicalize() else {
+        // An output that does not exist yet cannot be an input.
+        return Ok(());
+    };
+    for input in inputs {
+        if input.as_os_str() == "-" {
+            continue;
+        }
+        if let Ok(inp) = input.canonicalize() {
+            if inp == out || inp.starts_with(&out) {
+                bail!(
+                    "{}: the output would overwrite the input {}",
+                    output.display(),
+                    input.display()
+                );
+            }
+        }
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn commit_replaces_and_drop_leaves_nothing() {
+        let root = tempfile::tempdir().unwrap();
+        let target = root.path().join("out");
+        let dir = AtomicDir::create(&target, false).unwrap();
+        std::fs::write(dir.path().join("a"), "1").unwrap();
+        dir.commit().unwrap();
+        assert_eq!(std::fs::read_to_string(target.join("a")).unwrap(), "1");
+
+        assert!(AtomicDir::create(&target, false).is_err());
+        let dir = AtomicDir::create(&target, true).unwrap();
+        std::fs::write(dir.path().join("b"), "2").unwrap();
+        drop(dir);
+        // Dropped before commit: the old output stays, no temp is left.
+        assert!(target.join("a").exists());
+        let names: Vec<_> = std::fs::read_dir(root.path())
+            .unwrap()
+            .map(|e| e.unwrap().file_name())
+            .collect();
+        assert_eq!(names, vec!["out"]);
+
+        let dir = AtomicDir::create(&target, true).unwrap();
+        std::fs::write(dir.path().join("b"), "2").unwrap();
+        dir.commit().unwrap();
+        assert!(!target.join("a").exists() && target.join("b").exists());
+        assert_eq!(std::fs::read_dir(root.path()).unwrap().count(), 1);
+    }
+
+    #[test]
+    fn output_over_input_is_refused() {
+        let root = tempfile::tempdir().unwrap();
+        let input = root.path().join("in");
+        std::fs::create_dir(&input).unwrap();
+        std::fs::write(input.join("t.txt"), "x").unwrap();
+        assert!(refuse_overlap(&[input.join("t.txt")], &input).is_err());
+        assert!(refuse_overlap(std::slice::from_ref(&input), &input).is_err());
+        assert!(refuse_overlap(&[input.join("t.txt")], &input.join("t.txt"))
+            .is_err());
+        assert!(refuse_overlap(
+            std::slice::from_ref(&input),
+            &root.path().join("o")
+        )
+        .is_ok());
+    }
+}

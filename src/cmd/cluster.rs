@@ -1,0 +1,156 @@
+//! `lexiclade cluster`: learn word clusters from raw text into a cluster
+//! directory.
+
+use std::{path::PathBuf, time::Instant};
+
+use anyhow::{bail, Result};
+use lexiclade::{atomic::AtomicDir, progress::Bars, VERSION};
+use lexiclade_cluster::{
+    cluster, expand_inputs, ClusterOutput, ClusterParams, Counts, TokenOptions,
+};
+
+/// Learn word clusters from raw text (Brown et al. 1992 with a frequency
+/// window) and write them to a directory.
+///
+/// The directory gets clusters.tsv (each word with its path, class and
+/// count), merges.tsv (every merge with the AMI after it), summary.json
+/// (sizes, options, AMI) and timing.json. It is written beside DIR under
+/// a temporary name and renamed into place at the end, so a failed run
+/// leaves nothing half-written.
+#[derive(clap::Args)]
+pub struct Args {
+    /// Text files or directories (every regular file inside, in name
+    /// order); `-` reads standard input; `.gz` files are decompressed.
+    /// One sentence per line, tokens separated by spaces and tabs.
+    #[arg(required = true, value_name = "INPUT")]
+    inputs: Vec<PathBuf>,
+    /// The output directory.
+    #[arg(long, value_name = "DIR")]
+    out: PathBuf,
+    /// The number of classes C: the frequency window's width and the
+    /// number of leaves of the class hierarchy. Lowered, with a notice,
+    /// to the number of clustered words when there are fewer. At least 2.
+    #[arg(long, default_value_t = 1000, value_name = "N")]
+    classes: usize,
+    /// Drop words seen fewer than N times, and every bigram touching them.
+    #[arg(long, default_value_t = 1, value_name = "N")]
+    min_count: u64,
+    /// Split raw text into words and punctuation at Unicode word
+    /// boundaries, keeping URLs, e-mail addresses, @handles and #hashtags
+    /// whole. Without it, tokens are taken as they are.
+    #[arg(long)]
+    tokenize: bool,
+    /// Lowercase every token before counting.
+    #[arg(long)]
+    lowercase: bool,
+    /// Worker threads for the merge phase; the result is the same for any
+    /// number. Default: the available cores, at most 8.
+    #[arg(long, value_name = "N")]
+    threads: Option<usize>,
+    /// Replace DIR if it exists and is not empty.
+    #[arg(long)]
+    force: bool,
+    /// No progress bars and no messages, only errors.
+    #[arg(long, short)]
+    quiet: bool,
+}
+
+/// Runs the command.
+pub fn run(args: Args) -> Result<()> {
+    if args.classes < 2 {
+        bail!("--classes must be at least 2, got {}", args.classes);
+    }
+    let threads = args.threads.unwrap_or_else(super::default_threads);
+    if threads == 0 {
+        bail!("--threads must be at least 1");
+    }
+    if args.min_count == 0 {
+        bail!("--min-count must be at least 1");
+    }
+    let sources = expand_inputs(&args.inputs)?;
+    if sources.is_empty() {
+        bail!("no input files found in {}", display_list(&args.inputs));
+    }
+    lexiclade::atomic::refuse_overlap(&args.inputs, &args.out)?;
+    let out = AtomicDir::create(&args.out, args.force)?;
+    let bars = Bars::new(args.quiet);
+    let started = Instant::now();
+
+    let options =
+        TokenOptions { tokenize: args.tokenize, lowercase: args.lowercase };
+    let bar = bars.bytes("counting");
+    let counts =
+        Counts::from_sources(&sources, options, args.min_count, &mut |b| {
+            bar.set_position(b)
+        })?;
+    bar.finish_and_clear();
+    let counted = started.elapsed().as_secs_f64();
+    if counts.len() < 2 {
+        bail!(
+            "{}: clustering needs at least 2 distinct words, found {}",
+            display_list(&args.inputs),
+            counts.len()
+        );
+    }
+    if counts.len() < args.classes && !args.quiet {
+        eprintln!(
+            "lexiclade: notice: --classes {} lowered to {}, the number of \
+             clustered words",
+            args.classes,
+            counts.len()
+        );
+    }
+
+    let params = ClusterParams { classes: args.classes };
+    let words = counts.len() as u64;
+    let bar = bars.steps("merging", words.saturating_sub(1), "merges");
+    let hierarchy = super::with_threads(threads, || {
+        cluster(&counts, &params, &mut |p| {
+            bar.set_position(p.merges_done);
+            if p.merges_done % 64 == 0 {
+                bar.set_message(format!(
+                    "({} of {} words added)",
+                    p.words_added, p.words_total
+                ));
+            }
+        })
+    })??;
+    bar.finish_and_clear();
+    let clustered = started.elapsed().as_secs_f64() - counted;
+
+    let result = ClusterOutput { counts: &counts, hierarchy: &hierarchy };
+    result.write_dir(out.path(), VERSION)?;
+    let timing = serde_json::json!({
+        "count_seconds": counted,
+        "cluster_seconds": clustered,
+        "total_seconds": started.elapsed().as_secs_f64(),
+        "threads": threads,
+        "peak_rss_bytes": lexiclade::bench::peak_rss_bytes(),
+    });
+    std::fs::write(
+        out.path().join("timing.json"),
+        serde_json::to_string_pretty(&timing)? + "\n",
+    )?;
+    let target = out.target().to_path_buf();
+    out.commit()?;
+    if !args.quiet {
+        eprintln!(
+            "lexiclade: {} words in {} classes, AMI {:.4} bits, {:.1} s; \
+             wrote {}",
+            counts.len(),
+            hierarchy.classes,
+            hierarchy.ami_bits,
+            started.elapsed().as_secs_f64(),
+            target.display()
+        );
+    }
+    Ok(())
+}
+
+fn display_list(paths: &[PathBuf]) -> String {
+    paths
+        .iter()
+        .map(|p| p.display().to_string())
+        .collect::<Vec<_>>()
+        .join(", ")
+}

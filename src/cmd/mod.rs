@@ -1,0 +1,38 @@
+//! The subcommands, one file each: a private `Args` type parsed by clap
+//! and a `run` function that does the work through the libraries.
+
+pub mod bench;
+pub mod cluster;
+pub mod demo;
+pub mod show;
+
+/// Marks a failure of lexiclade itself rather than of its input: the
+/// command exits with code 1 instead of 2.
+#[derive(Debug)]
+pub struct Internal(pub String);
+
+impl std::fmt::Display for Internal {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "internal error: {}", self.0)
+    }
+}
+
+impl std::error::Error for Internal {}
+
+/// The default number of worker threads: what the machine offers, at
+/// most 8 (the pair updates stop scaling beyond that).
+pub fn default_threads() -> usize {
+    std::thread::available_parallelism().map_or(1, |n| n.get()).min(8)
+}
+
+/// Runs `work` on a pool of `threads` rayon workers.
+pub fn with_threads<T: Send>(
+    threads: usize,
+    work: impl FnOnce() -> T + Send,
+) -> anyhow::Result<T> {
+    let pool =
+        rayon::ThreadPoolBuilder::new().num_threads(threads).build().map_err(
+            |e| Internal(format!("cannot start {threads} threads: {e}")),
+        )?;
+    Ok(pool.install(work))
+}

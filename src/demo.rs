@@ -1,0 +1,238 @@
+//! The embedded demo: radio logs of the Vell Valley Barge Line, a
+//! freight company invented for this demo, generated deterministically.
+//!
+//! Skippers radio short notes about barges, locks and quays, cargo, days
+//! and times. Words of one kind (barge names, places, cargo, skippers,
+//! days, numbers) occur in the same kinds of context, which is what the
+//! clustering should find. Nothing here describes real places or people.
+
+use std::path::Path;
+
+use anyhow::Result;
+use lexiclade_cluster::{
+    cluster, ClusterOutput, ClusterParams, ClusterTable, Counts,
+};
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+
+use crate::atomic::AtomicDir;
+
+/// The file in a demo directory that marks it as one, so that `demo`
+/// may replace it without `--force`.
+pub const MARKER: &str = "lexiclade-demo.txt";
+
+/// What the demo learned, for the report.
+pub struct DemoReport {
+    /// Sentences of raw text.
+    pub sentences: u64,
+    /// Tokens of raw text.
+    pub tokens: u64,
+    /// Distinct words.
+    pub types: u64,
+    /// Classes learned.
+    pub classes: usize,
+    /// AMI of the classes, in bits.
+    pub ami_bits: f64,
+    /// A few words with their path and nearest neighbours.
+    pub neighbours: Vec<(String, String, Vec<String>)>,
+}
+
+/// Settings of a demo run.
+pub struct DemoParams {
+    /// Sentences of raw text to generate (default 4,000).
+    pub sentences: usize,
+    /// Classes to learn (default 16).
+    pub classes: usize,
+    /// The seed of the generated text (default 1).
+    pub seed: u64,
+}
+
+impl Default for DemoParams {
+    fn default() -> Self {
+        DemoParams { sentences: 4_000, classes: 16, seed: 1 }
+    }
+}
+
+/// Generates the demo text, clusters it and writes everything into
+/// `out` (`raw.txt` and the cluster directory `clusters/`), atomically.
+pub fn run(
+    out: &Path,
+    force: bool,
+    params: &DemoParams,
+) -> Result<DemoReport> {
+    let replace = force || out.join(MARKER).is_file();
+    let dir = AtomicDir::create(out, replace)?;
+    let text = corpus(params.sentences, params.seed);
+    std::fs::write(dir.path().join("raw.txt"), &text)?;
+    std::fs::write(
+        dir.path().join(MARKER),
+        "Written by `lexiclade demo`; `demo` replaces this directory.\n",
+    )?;
+    let counts = Counts::from_text(&text, Default::default(), 1);
+    let cluster_params = ClusterParams { classes: params.classes };
+    let hierarchy = cluster(&counts, &cluster_params, &mut |_| {})?;
+    let clusters = dir.path().join("clusters");
+    std::fs::create_dir(&clusters)?;
+    ClusterOutput { counts: &counts, hierarchy: &hierarchy }
+        .write_dir(&clusters, crate::VERSION)?;
+    let table = ClusterTable::read(&clusters)?;
+    let neighbours =
+        ["Heron", "Cressfold", "slate", "Ada", "Tuesday", "three"]
+            .iter()
+            .filter_map(|&word| {
+                let k = table.find(word)?;
+                let near = table
+                    .nearest(k, 5)
+                    .into_iter()
+                    .map(|n| table.entries[n].word.clone())
+                    .collect();
+                Some((word.to_string(), table.entries[k].path.clone(), near))
+            })
+            .collect();
+    dir.commit()?;
+    Ok(DemoReport {
+        sentences: counts.sentences,
+        tokens: counts.tokens,
+        types: counts.types,
+        classes: hierarchy.classes,
+        ami_bits: hierarchy.ami_bits,
+        neighbours,
+    })
+}
+
+/// The barges of the line.
+pub const VESSELS: &[&str] = &[
+    "Heron", "Kestrel", "Marten", "Otter", "Plover", "Sorrel", "Tansy",
+    "Wren", "Bittern", "Grebe", "Lapwing", "Merlin", "Ousel", "Teal",
+    "Whimbrel", "Dunlin", "Shrike", "Linnet",
+];
+
+/// Locks, quays and towns along the river.
+pub const PLACES: &[&str] = &[
+    "Cressfold",
+    "Amberley",
+    "Tollmouth",
+    "Marrowlock",
+    "Hobbsquay",
+    "Lindenweir",
+    "Eskferry",
+    "Brackwater",
+    "Fennick",
+    "Olderbridge",
+    "Saltmead",
+    "Wickhollow",
+    "Quarrington",
+    "Ravelston",
+    "Dunmere",
+    "Gorsebank",
+];
+
+/// What the barges carry.
+pub const CARGO: &[&str] = &[
+    "slate", "timber", "barley", "coal", "wool", "lime", "cider", "bricks",
+    "salt", "hemp", "gravel", "flour", "iron", "peat",
+];
+
+/// The skippers and lock keepers.
+pub const PEOPLE: &[&str] = &[
+    "Ada", "Bram", "Corin", "Della", "Edric", "Fenna", "Gus", "Hild", "Ivo",
+    "Jessamy", "Kit", "Lorne", "Mab", "Nye",
+];
+
+/// Days of the week.
+pub const DAYS: &[&str] = &[
+    "Monday",
+    "Tuesday",
+    "Wednesday",
+    "Thursday",
+    "Friday",
+    "Saturday",
+    "Sunday",
+];
+
+/// Counts, as words and digits.
+pub const NUMBERS: &[&str] = &[
+    "two", "three", "four", "five", "six", "eight", "ten", "twelve", "20",
+    "40", "60", "100",
+];
+
+/// Times of day.
+pub const TIMES: &[&str] =
+    &["dawn", "noon", "dusk", "midnight", "first light"];
+
+const TEMPLATES: &[&str] = &[
+    "V left P at T with N crates of C .",
+    "skipper S reports V moored at P .",
+    "N tons of C unloaded at P on D .",
+    "S asks for N hands at P by D .",
+    "water high at P , V waits for the T tide .",
+    "V and V passed P heading for P .",
+    "lock keeper S at P says the gates open on D .",
+    "V carrying C for P , due D at T .",
+    "S took V downriver from P to P with C .",
+    "P wharf short of C , V sent with N loads .",
+    "delay at P : V aground near P since T .",
+    "S relieved S on V at P on D .",
+    "C prices up at P , N barges wait .",
+    "V refuelled at P , skipper S on board .",
+];
+
+/// `sentences` lines of demo text for `seed`, one sentence per line,
+/// tokens separated by spaces.
+pub fn corpus(sentences: usize, seed: u64) -> String {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let mut text = String::new();
+    for _ in 0..sentences {
+        let template = TEMPLATES[rng.random_range(0..TEMPLATES.len())];
+        let mut first = true;
+        for slot in template.split(' ') {
+            if !first {
+                text.push(' ');
+            }
+            first = false;
+            let word = match slot {
+                "V" => skewed(&mut rng, VESSELS),
+                "P" => skewed(&mut rng, PLACES),
+                "C" => skewed(&mut rng, CARGO),
+                "S" => skewed(&mut rng, PEOPLE),
+                "D" => skewed(&mut rng, DAYS),
+                "N" => skewed(&mut rng, NUMBERS),
+                "T" => skewed(&mut rng, TIMES),
+                literal => literal,
+            };
+            text.push_str(word);
+        }
+        text.push('\n');
+    }
+    text
+}
+
+/// A word of `words`, the first ones more often (Zipf-like, weight
+/// `1 / (k + 1)`), as names are in real logs.
+fn skewed<'a>(rng: &mut ChaCha8Rng, words: &[&'a str]) -> &'a str {
+    let total: f64 = (1..=words.len()).map(|k| 1.0 / k as f64).sum();
+    let mut u = rng.random::<f64>() * total;
+    for (k, word) in words.iter().enumerate() {
+        u -= 1.0 / (k + 1) as f64;
+        if u <= 0.0 {
+            return word;
+        }
+    }
+    words[words.len() - 1]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn corpus_is_deterministic_and_uses_every_kind() {
+        let a = corpus(500, 1);
+        assert_eq!(a, corpus(500, 1));
+        assert_ne!(a, corpus(500, 2));
+        assert_eq!(a.lines().count(), 500);
+        for word in ["Heron", "Cressfold", "slate", "Ada", "Monday", "three"] {
+            assert!(a.split_whitespace().any(|w| w == word), "{word}");
+        }
+    }
+}

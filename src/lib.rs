@@ -1,0 +1,16 @@
+//! The library half of the `lexiclade` command: what the commands share
+//! beyond argument parsing: writing output directories atomically,
+//! progress bars, seeded synthetic corpora, the embedded demo and the
+//! benchmark harness. The clustering itself lives in
+//! [`lexiclade_cluster`].
+#![deny(missing_docs)]
+
+pub mod atomic;
+pub mod bench;
+pub mod demo;
+pub mod dendrogram;
+pub mod progress;
+pub mod synth;
+
+/// The version of lexiclade, written into every output it makes.
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");
