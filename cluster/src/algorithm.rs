@@ -81,7 +81,8 @@ pub const TIE_RELATIVE: f64 = 1e-12;
 /// In units of `F` the scale is the bigram total `N`; in nats of AMI it
 /// is 1.
 pub fn near_tie(min: f64, loss: f64, scale: f64) -> bool {
-    loss - min <= TIE_RELATIVE * min.abs().max(loss.abs()).max(scale)
+    loss.is_finite()
+        && loss - min <= TIE_RELATIVE * min.abs().max(loss.abs()).max(scale)
 }
 
 /// Parameters of a clustering run.

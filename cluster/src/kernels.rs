@@ -138,3 +138,157 @@ multiversion! {
         }
     }
 }
+
+/// The smallest entry of `row` and the index of its first occurrence
+/// (`INFINITY` and 0 for a row without an entry below infinity).
+pub(crate) fn row_min(row: &[f64]) -> (f64, usize) {
+    let mut lanes = ([f64::INFINITY; LANES], [0u64; LANES]);
+    min_lanes(row, &mut lanes);
+    let (values, indices) = lanes;
+    let (mut best, mut index) = (f64::INFINITY, 0u64);
+    for k in 0..LANES {
+        // Each lane keeps its first minimum; across lanes the smallest
+        // index among equal values is the row's first occurrence.
+        if values[k] < best || (values[k] == best && indices[k] < index) {
+            best = values[k];
+            index = indices[k];
+        }
+    }
+    (best, if best == f64::INFINITY { 0 } else { index as usize })
+}
+
+/// [`row_min`] of `row` with the entry at `skip` left out.
+pub(crate) fn row_min_without(row: &[f64], skip: usize) -> (f64, usize) {
+    let (min, index) = row_min(row);
+    if index != skip || min == f64::INFINITY {
+        return (min, index);
+    }
+    let (left, left_at) = row_min(&row[..skip]);
+    let (right, right_at) = row_min(&row[skip + 1..]);
+    if right < left {
+        (right, skip + 1 + right_at)
+    } else {
+        (left, left_at)
+    }
+}
+
+/// Lanes of the minimum search: enough for AVX-512.
+const LANES: usize = 8;
+
+multiversion! {
+    /// Per lane `k`, the smallest of the entries `k, k + LANES, …` and the
+    /// index of its first occurrence.
+    fn min_lanes(row: &[f64], out: &mut ([f64; LANES], [u64; LANES])) {
+        let (mut vals, mut idx) = ([f64::INFINITY; LANES], [0u64; LANES]);
+        let mut chunks = row.chunks_exact(LANES);
+        let mut base = 0u64;
+        for chunk in &mut chunks {
+            for k in 0..LANES {
+                let smaller = chunk[k] < vals[k];
+                vals[k] = if smaller { chunk[k] } else { vals[k] };
+                idx[k] = if smaller { base + k as u64 } else { idx[k] };
+            }
+            base += LANES as u64;
+        }
+        for (k, &v) in chunks.remainder().iter().enumerate() {
+            if v < vals[k] {
+                vals[k] = v;
+                idx[k] = base + k as u64;
+            }
+        }
+        *out = (vals, idx);
+    }
+}
+
+multiversion! {
+    /// Folds `row` (the row of slot `a`) into running column minima.
+    fn fold_col_min(row: &[f64], a: u64, min: &mut [f64], arg: &mut [u64]) {
+        let n = row.len();
+        let (min, arg) = (&mut min[..n], &mut arg[..n]);
+        for b in 0..n {
+            let smaller = row[b] < min[b];
+            min[b] = if smaller { row[b] } else { min[b] };
+            arg[b] = if smaller { a } else { arg[b] };
+        }
+    }
+}
+
+multiversion! {
+    /// The part of a new class's loss row that does not depend on the
+    /// other classes: `out[b] += block − M` with
+    /// `block = g(ss) + g(sb) + g(bs) + g(bb) − g(ss + sb + bs + bb)` and
+    /// `M = φ(l_s, l_b) + φ(r_s, r_b)`; `sb`, `bs`, `bb`, `l`, `r` are
+    /// indexed by `b`.
+    fn add_block_minus_marginals(
+        ss: f64,
+        sb: &[f64],
+        bs: &[f64],
+        bb: &[f64],
+        ls: f64,
+        l: &[f64],
+        rs: f64,
+        r: &[f64],
+        out: &mut [f64],
+    ) {
+        let n = out.len();
+        let (sb, bs, bb, l, r) = (&sb[..n], &bs[..n], &bb[..n], &l[..n], &r[..n]);
+        let (gss, gls, grs) = (g(ss), g(ls), g(rs));
+        for b in 0..n {
+            let block = gss + g(sb[b]) + g(bs[b]) + g(bb[b])
+                - g(ss + sb[b] + bs[b] + bb[b]);
+            let marg = (gls + g(l[b]) - g(ls + l[b]))
+                + (grs + g(r[b]) - g(rs + r[b]));
+            out[b] += block - marg;
+        }
+    }
+}
+
+multiversion! {
+    /// Finishes the loss row of a class merged from `k` and `o`, derived
+    /// from `k`'s row: `out[b]` holds the corrections summed over `o`'s
+    /// neighbours on entry and the loss on exit. Per `b`: `lk` is `k`'s
+    /// loss, `l`, `r` the marginals, `nk`, `kn`, `no`, `on` the cells
+    /// `(k,b)`, `(b,k)`, `(o,b)`, `(b,o)`, `diag` the cell `(b,b)`.
+    fn finish_merged_row(
+        lk: &[f64],
+        l: &[f64],
+        r: &[f64],
+        nk: &[f64],
+        kn: &[f64],
+        no: &[f64],
+        on: &[f64],
+        diag: &[f64],
+        sides: [f64; 2],
+        ko_ok: [f64; 2],
+        kk_mm: [f64; 2],
+        merged_sides: [f64; 2],
+        out: &mut [f64],
+    ) {
+        let n = out.len();
+        let (lk, l, r, nk, kn) = (&lk[..n], &l[..n], &r[..n], &nk[..n], &kn[..n]);
+        let (no, on, diag) = (&no[..n], &on[..n], &diag[..n]);
+        let [lk_side, rk_side] = sides;
+        let [ko, ok] = ko_ok;
+        let [kk, mm] = kk_mm;
+        let [lm, rm] = merged_sides;
+        let (g_lk, g_rk, g_ko, g_ok) = (g(lk_side), g(rk_side), g(ko), g(ok));
+        let (g_kk, g_mm, g_lm, g_rm) = (g(kk), g(mm), g(lm), g(rm));
+        for b in 0..n {
+            let (gl, gr, gd) = (g(l[b]), g(r[b]), g(diag[b]));
+            let a_old = lk[b]
+                + (g_lk + gl - g(lk_side + l[b]))
+                + (g_rk + gr - g(rk_side + r[b]));
+            let cross = (g_ko + g(on[b]) - g(ko + on[b]))
+                + (g_ok + g(no[b]) - g(ok + no[b]));
+            let old_block = g_kk + g(nk[b]) + g(kn[b]) + gd
+                - g(kk + nk[b] + kn[b] + diag[b]);
+            let (mb, bm) = (nk[b] + no[b], kn[b] + on[b]);
+            let new_block =
+                g_mm + g(mb) + g(bm) + gd - g(mm + mb + bm + diag[b]);
+            let a_new = a_old + out[b] - cross - old_block + new_block;
+            out[b] = a_new
+                - (g_lm + gl - g(lm + l[b]))
+                - (g_rm + gr - g(rm + r[b]));
+        }
+    }
+}

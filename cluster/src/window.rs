@@ -39,6 +39,9 @@ pub(crate) struct Window {
     f: f64,
     /// Scratch: the rows updated in the current step.
     mark: Vec<bool>,
+    /// The slot of the word added last, while its column is left out of
+    /// the row minima (see [`Window::finish_step`]).
+    newest: Option<usize>,
 }
 
 /// The bigrams of a word being added, by the slot of the other word.
@@ -69,6 +72,7 @@ impl Window {
             total: 0.0,
             f: 0.0,
             mark: vec![false; cap],
+            newest: None,
         }
     }
 
@@ -105,6 +109,9 @@ impl Window {
 
     /// Adds word `word` (node `word`) as a new class in the free slot `s`.
     pub(crate) fn add_word(&mut self, word: u32, s: usize, bigrams: &NewWord) {
+        // Words added without a merge in between (the first C) each
+        // become an ordinary column before the next one comes.
+        self.fold_newest();
         let cap = self.cap;
         for &(a, c) in bigrams.right {
             self.n[s * cap + a] += c;
@@ -191,37 +198,52 @@ impl Window {
         // The new class's row, summed over its neighbours.
         let active = self.active_slots();
         let mut new_row = vec![0.0; cap];
-        let mut term = vec![0.0; cap];
-        for &x in &d {
-            let (sx, xs) = (self.n[s * cap + x], self.n[x * cap + s]);
-            let col_x = &self.nt[x * cap..(x + 1) * cap];
-            let row_x = &self.n[x * cap..(x + 1) * cap];
-            term.fill(0.0);
-            kernels::add_phi_pair(sx, col_x, xs, row_x, &mut term);
-            term[x] = 0.0;
-            for (acc, t) in new_row.iter_mut().zip(&term) {
-                *acc += t;
-            }
+        {
+            let (n, nt) = (&self.n, &self.nt);
+            for_columns(&mut new_row, d.len(), |range, acc| {
+                for &x in &d {
+                    let (sx, xs) = (n[s * cap + x], n[x * cap + s]);
+                    let col_x = &nt[x * cap..(x + 1) * cap][range.clone()];
+                    let row_x = &n[x * cap..(x + 1) * cap][range.clone()];
+                    without(acc, &range, x, |acc| {
+                        kernels::add_phi_pair(sx, col_x, xs, row_x, acc)
+                    });
+                }
+            });
         }
-        let n = |a: usize, b: usize| self.n[a * cap + b];
-        for &b in &active {
-            let block = block(n(s, s), n(s, b), n(b, s), n(b, b));
-            let marg = phi2(self.left[s], self.left[b])
-                + phi2(self.right[s], self.right[b]);
-            new_row[b] += block - marg;
-        }
+        let diag = self.diagonal();
+        kernels::add_block_minus_marginals(
+            self.n[s * cap + s],
+            &self.n[s * cap..(s + 1) * cap],
+            &self.nt[s * cap..(s + 1) * cap],
+            &diag,
+            self.left[s],
+            &self.left,
+            self.right[s],
+            &self.right,
+            &mut new_row,
+        );
         for (b, v) in new_row.iter_mut().enumerate() {
             if !self.active[b] || b == s {
                 *v = f64::INFINITY;
             }
         }
         self.loss[s * cap..(s + 1) * cap].copy_from_slice(&new_row);
+        self.newest = Some(s);
         self.finish_step(&d, s, None, &active);
+        #[cfg(debug_assertions)]
+        self.check_minima("add");
     }
 
     /// Copies the updated rows (marked) and the fresh row into the
     /// columns of the other rows, keeps every row's minimum and clears
     /// the marks; `gone` is a slot just made inactive.
+    ///
+    /// Row minima leave out the column of [`Window::newest`]: a word
+    /// just added is a cheap merge partner for almost every class, so
+    /// its column would be the minimum of nearly every row, and merging
+    /// it away would force a rescan of them all. [`Window::best_pair`]
+    /// looks at its row instead.
     fn finish_step(
         &mut self,
         rows: &[usize],
@@ -230,16 +252,19 @@ impl Window {
         active: &[usize],
     ) {
         let cap = self.cap;
+        let skip = self.newest;
         // Column minima of the updated rows, for the rows not updated.
         let mut col_min = vec![f64::INFINITY; cap];
-        let mut col_arg = vec![usize::MAX; cap];
+        let mut col_arg = vec![u64::MAX; cap];
         for &a in rows.iter().chain([&fresh]) {
-            let row = &self.loss[a * cap..(a + 1) * cap];
-            for b in 0..cap {
-                if row[b] < col_min[b] {
-                    col_min[b] = row[b];
-                    col_arg[b] = a;
-                }
+            if Some(a) != skip {
+                let row = &self.loss[a * cap..(a + 1) * cap];
+                kernels::fold_col_min(
+                    row,
+                    a as u64,
+                    &mut col_min,
+                    &mut col_arg,
+                );
             }
         }
         for &a in rows {
@@ -261,6 +286,8 @@ impl Window {
             }
             self.best_val[gone] = f64::INFINITY;
         }
+        let mut rescan: Vec<usize> = rows.to_vec();
+        rescan.push(fresh);
         for &b in active {
             if self.mark[b] || b == fresh {
                 continue;
@@ -273,7 +300,7 @@ impl Window {
             if !changed {
                 if col_min[b] < old_val {
                     self.best_val[b] = col_min[b];
-                    self.best_idx[b] = col_arg[b];
+                    self.best_idx[b] = col_arg[b] as usize;
                 }
                 continue;
             }
@@ -282,52 +309,112 @@ impl Window {
                 // Still the smallest; a smaller updated entry may beat it.
                 if col_min[b] < now {
                     self.best_val[b] = col_min[b];
-                    self.best_idx[b] = col_arg[b];
+                    self.best_idx[b] = col_arg[b] as usize;
                 } else {
                     self.best_val[b] = now;
                 }
             } else if col_min[b] <= old_val {
                 // Entries not updated are all at least the old minimum.
                 self.best_val[b] = col_min[b];
-                self.best_idx[b] = col_arg[b];
+                self.best_idx[b] = col_arg[b] as usize;
             } else {
-                self.rescan(b);
+                rescan.push(b);
             }
         }
-        for &a in rows.iter().chain([&fresh]) {
-            self.rescan(a);
+        self.rescan_all(&rescan);
+        for &a in rows {
             self.mark[a] = false;
         }
     }
 
-    fn rescan(&mut self, a: usize) {
-        let row = &self.loss[a * self.cap..(a + 1) * self.cap];
-        let (mut best, mut idx) = (f64::INFINITY, 0);
-        for (b, &v) in row.iter().enumerate() {
-            if v < best {
-                best = v;
-                idx = b;
+    #[cfg(debug_assertions)]
+    fn check_minima(&self, when: &str) {
+        for a in 0..self.cap {
+            if !self.active[a] {
+                continue;
+            }
+            let row = &self.loss[a * self.cap..(a + 1) * self.cap];
+            let want = match self.newest {
+                Some(z) if z != a => kernels::row_min_without(row, z).0,
+                _ => kernels::row_min(row).0,
+            };
+            assert_eq!(
+                want, self.best_val[a],
+                "row {a} after {when}, newest {:?}",
+                self.newest
+            );
+        }
+    }
+
+    /// Takes the column of the newest word back into the row minima.
+    fn fold_newest(&mut self) {
+        let Some(z) = self.newest.take() else { return };
+        if !self.active[z] {
+            return;
+        }
+        let cap = self.cap;
+        for b in 0..cap {
+            let v = self.loss[b * cap + z];
+            if self.active[b] && v < self.best_val[b] {
+                self.best_val[b] = v;
+                self.best_idx[b] = z;
             }
         }
-        self.best_val[a] = best;
-        self.best_idx[a] = idx;
+    }
+
+    /// Rescans rows, in parallel when there are enough; the minima leave
+    /// out the newest word's column, except in its own row.
+    fn rescan_all(&mut self, rows: &[usize]) {
+        let cap = self.cap;
+        let (loss, skip) = (&self.loss, self.newest);
+        let scan = |&a: &usize| {
+            let row = &loss[a * cap..(a + 1) * cap];
+            match skip {
+                Some(z) if z != a => kernels::row_min_without(row, z),
+                _ => kernels::row_min(row),
+            }
+        };
+        let found: Vec<(f64, usize)> = if rows.len() * cap
+            >= PARALLEL_MIN_PAIRS
+            && rayon::current_num_threads() > 1
+        {
+            rows.par_iter().map(scan).collect()
+        } else {
+            rows.iter().map(scan).collect()
+        };
+        for (&a, (v, idx)) in rows.iter().zip(found) {
+            self.best_val[a] = v;
+            self.best_idx[a] = idx;
+        }
+    }
+
+    /// The cells `(b, b)`.
+    fn diagonal(&self) -> Vec<f64> {
+        (0..self.cap).map(|b| self.n[b * self.cap + b]).collect()
     }
 
     /// The pair to merge next, by the rule in [`crate::algorithm`].
     fn best_pair(&self) -> (usize, usize) {
+        let cap = self.cap;
         let scale = self.total.max(1.0);
-        let min = (0..self.cap)
+        // Row minima leave out the newest word's column; its own row
+        // holds those pairs.
+        let newest_row =
+            self.newest.map(|z| &self.loss[z * cap..(z + 1) * cap]);
+        let min = (0..cap)
             .filter(|&a| self.active[a])
             .map(|a| self.best_val[a])
             .fold(f64::INFINITY, f64::min);
-        let p = (0..self.cap)
-            .filter(|&a| {
-                self.active[a] && near_tie(min, self.best_val[a], scale)
-            })
+        let has_tie = |a: usize| {
+            near_tie(min, self.best_val[a], scale)
+                || newest_row.is_some_and(|row| near_tie(min, row[a], scale))
+        };
+        let p = (0..cap)
+            .filter(|&a| self.active[a] && has_tie(a))
             .min_by_key(|&a| self.node[a])
             .expect("at least two active classes");
-        let row = &self.loss[p * self.cap..(p + 1) * self.cap];
-        let q = (0..self.cap)
+        let row = &self.loss[p * cap..(p + 1) * cap];
+        let q = (0..cap)
             .filter(|&b| {
                 self.active[b] && b != p && near_tie(min, row[b], scale)
             })
@@ -340,6 +427,16 @@ impl Window {
     /// Returns the merge and the slot it freed.
     pub(crate) fn merge_best(&mut self, node: u32) -> (Merge, usize) {
         let (i, j) = self.best_pair();
+        match self.newest {
+            // The newest word is merged away: its column never entered a
+            // row minimum, so nothing is to be taken back.
+            Some(z) if z == i || z == j => self.newest = None,
+            _ => {
+                self.fold_newest();
+                #[cfg(debug_assertions)]
+                self.check_minima("fold");
+            }
+        }
         let cap = self.cap;
         let lost = self.loss[i * cap + j];
         let active: Vec<usize> = self
@@ -396,40 +493,57 @@ impl Window {
             (j, i, &si, &ti)
         };
         let mut new_row = vec![0.0; cap];
-        let mut term = vec![0.0; cap];
-        // Terms x in the row support of o: cells (k, x), (o, x) fuse.
-        for (&x, from_rows) in
-            so.iter().map(|x| (x, true)).chain(to.iter().map(|x| (x, false)))
         {
-            let (kx, ox, others) = if from_rows {
-                (self.n[k * cap + x], self.n[o * cap + x], self.nt_row(x))
-            } else {
-                (self.n[x * cap + k], self.n[x * cap + o], self.n_row(x))
-            };
-            term.fill(0.0);
-            kernels::add_growth(kx, ox, others, &mut term);
-            term[x] = 0.0;
-            for (acc, t) in new_row.iter_mut().zip(&term) {
-                *acc += t;
-            }
+            let (n, nt) = (&self.n, &self.nt);
+            // Terms x where o has bigrams: its cells with x fuse into k's.
+            let terms: Vec<(usize, f64, f64, &[f64])> = so
+                .iter()
+                .map(|&x| {
+                    (
+                        x,
+                        n[k * cap + x],
+                        n[o * cap + x],
+                        &nt[x * cap..(x + 1) * cap],
+                    )
+                })
+                .chain(to.iter().map(|&x| {
+                    (
+                        x,
+                        n[x * cap + k],
+                        n[x * cap + o],
+                        &n[x * cap..(x + 1) * cap],
+                    )
+                }))
+                .collect();
+            for_columns(&mut new_row, terms.len(), |range, acc| {
+                for &(x, kx, ox, others) in &terms {
+                    let others = &others[range.clone()];
+                    without(acc, &range, x, |acc| {
+                        kernels::add_growth(kx, ox, others, acc)
+                    });
+                }
+            });
         }
         {
             let n = |a: usize, b: usize| self.n[a * cap + b];
-            let (lm, rm) =
-                (self.left[i] + self.left[j], self.right[i] + self.right[j]);
-            let mm = n(i, i) + n(i, j) + n(j, i) + n(j, j);
-            for &b in &active {
-                let (lb, rb) = (self.left[b], self.right[b]);
-                let a_old = self.loss[k * cap + b]
-                    + phi2(self.left[k], lb)
-                    + phi2(self.right[k], rb);
-                let cross = phi2(n(k, o), n(b, o)) + phi2(n(o, k), n(o, b));
-                let old_block = block(n(k, k), n(k, b), n(b, k), n(b, b));
-                let new_block =
-                    block(mm, n(i, b) + n(j, b), n(b, i) + n(b, j), n(b, b));
-                let a_new = a_old + new_row[b] - cross - old_block + new_block;
-                new_row[b] = a_new - phi2(lm, lb) - phi2(rm, rb);
+            fn row(t: &[f64], a: usize, cap: usize) -> &[f64] {
+                &t[a * cap..(a + 1) * cap]
             }
+            kernels::finish_merged_row(
+                row(&self.loss, k, cap),
+                &self.left,
+                &self.right,
+                row(&self.n, k, cap),
+                row(&self.nt, k, cap),
+                row(&self.n, o, cap),
+                row(&self.nt, o, cap),
+                &self.diagonal(),
+                [self.left[k], self.right[k]],
+                [n(k, o), n(o, k)],
+                [n(k, k), n(i, i) + n(i, j) + n(j, i) + n(j, j)],
+                [self.left[i] + self.left[j], self.right[i] + self.right[j]],
+                &mut new_row,
+            );
         }
 
         // 3. Merge the counts into the slot with more words.
@@ -481,20 +595,14 @@ impl Window {
             self.loss[keep * cap + b] = new_row[b];
         }
         self.finish_step(&rows, keep, Some(gone), &active);
+        #[cfg(debug_assertions)]
+        self.check_minima("merge");
         let merge = Merge {
             child0: x.min(y),
             child1: x.max(y),
             ami_bits: self.ami_bits(),
         };
         (merge, gone)
-    }
-
-    fn n_row(&self, a: usize) -> &[f64] {
-        &self.n[a * self.cap..(a + 1) * self.cap]
-    }
-
-    fn nt_row(&self, a: usize) -> &[f64] {
-        &self.nt[a * self.cap..(a + 1) * self.cap]
     }
 }
 
@@ -549,14 +657,40 @@ impl<'a> Fusion<'a> {
     }
 }
 
-/// `φ(p, q) = g(p) + g(q) − g(p + q)`.
-fn phi2(p: f64, q: f64) -> f64 {
-    g(p) + g(q) - g(p + q)
+/// Runs `fill` on column chunks of `row`, in parallel when `terms`
+/// (each a pass over the row) make enough work; every column sees the
+/// terms in the same order either way.
+fn for_columns<F>(row: &mut [f64], terms: usize, fill: F)
+where
+    F: Fn(std::ops::Range<usize>, &mut [f64]) + Sync,
+{
+    const CHUNK: usize = 256;
+    if terms * row.len() >= PARALLEL_MIN_PAIRS
+        && rayon::current_num_threads() > 1
+    {
+        row.par_chunks_mut(CHUNK).enumerate().for_each(|(k, acc)| {
+            let start = k * CHUNK;
+            fill(start..start + acc.len(), acc)
+        });
+    } else {
+        let len = row.len();
+        fill(0..len, row);
+    }
 }
 
-/// The four cells among two classes becoming one.
-fn block(aa: f64, ab: f64, ba: f64, bb: f64) -> f64 {
-    g(aa) + g(ab) + g(ba) + g(bb) - g(aa + ab + ba + bb)
+/// Runs `add` on `acc` (the columns `range` of a row) but leaves column
+/// `x` as it was: a class is not its own neighbour.
+fn without(
+    acc: &mut [f64],
+    range: &std::ops::Range<usize>,
+    x: usize,
+    add: impl FnOnce(&mut [f64]),
+) {
+    let kept = range.contains(&x).then(|| acc[x - range.start]);
+    add(acc);
+    if let Some(v) = kept {
+        acc[x - range.start] = v;
+    }
 }
 
 /// Runs `update` on every row of `table` whose slot is marked, in
