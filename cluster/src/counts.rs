@@ -164,6 +164,7 @@ impl Counter {
             types: types as u64,
             min_count,
             options: self.options,
+            bytes: self.bytes,
         }
     }
 }
@@ -189,6 +190,8 @@ pub struct Counts {
     pub min_count: u64,
     /// How the text was tokenised.
     pub options: TokenOptions,
+    /// Bytes of text read (after decompression), line ends included.
+    pub bytes: u64,
 }
 
 impl Counts {

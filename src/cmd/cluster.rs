@@ -122,6 +122,7 @@ pub fn run(args: Args) -> Result<()> {
     result.write_dir(out.path(), VERSION)?;
     let timing = serde_json::json!({
         "count_seconds": counted,
+        "bytes_read": counts.bytes,
         "cluster_seconds": clustered,
         "total_seconds": started.elapsed().as_secs_f64(),
         "threads": threads,
