@@ -129,7 +129,8 @@ fn measure(
         Ok(serde_json::from_str(&text)?)
     };
     let (timing, summary) = (read("timing.json")?, read("summary.json")?);
-    let num = |v: &serde_json::Value, key: &str| v[key].as_f64().unwrap_or(0.0);
+    let num =
+        |v: &serde_json::Value, key: &str| v[key].as_f64().unwrap_or(0.0);
     let count_seconds = num(&timing, "count_seconds").max(1e-9);
     Ok(BenchRow {
         corpus: corpus.to_string(),
@@ -167,9 +168,9 @@ pub fn report(rows: &[BenchRow]) -> String {
          total s | peak memory MiB |\n|---|---:|---:|---:|---:|---:|---:|---:|\n",
     );
     for r in rows {
-        let memory = r
-            .peak_rss
-            .map_or("?".to_string(), |b| format!("{:.0}", b as f64 / 1048576.0));
+        let memory = r.peak_rss.map_or("?".to_string(), |b| {
+            format!("{:.0}", b as f64 / 1048576.0)
+        });
         out.push_str(&format!(
             "| {} | {} | {} | {} | {:.1} | {:.2} | {:.2} | {} |\n",
             r.corpus,
@@ -184,7 +185,8 @@ pub fn report(rows: &[BenchRow]) -> String {
     }
     let synthetic: Vec<&BenchRow> =
         rows.iter().filter(|r| r.corpus.starts_with("zipf")).collect();
-    let mut corpora: Vec<&str> = synthetic.iter().map(|r| r.corpus.as_str()).collect();
+    let mut corpora: Vec<&str> =
+        synthetic.iter().map(|r| r.corpus.as_str()).collect();
     corpora.dedup();
     out.push('\n');
     for corpus in corpora {
@@ -197,7 +199,8 @@ pub fn report(rows: &[BenchRow]) -> String {
             out.push_str(&format!("merge time ∝ C^{k:.2} on {corpus}\n"));
         }
     }
-    let mut classes: Vec<usize> = synthetic.iter().map(|r| r.classes).collect();
+    let mut classes: Vec<usize> =
+        synthetic.iter().map(|r| r.classes).collect();
     classes.sort_unstable();
     classes.dedup();
     for c in classes {
@@ -219,8 +222,10 @@ mod tests {
 
     #[test]
     fn fits_known_exponents() {
-        let square: Vec<(f64, f64)> =
-            [256.0, 512.0, 1000.0].iter().map(|&c| (c, 3e-6 * c * c)).collect();
+        let square: Vec<(f64, f64)> = [256.0, 512.0, 1000.0]
+            .iter()
+            .map(|&c| (c, 3e-6 * c * c))
+            .collect();
         assert!((fit_exponent(&square).unwrap() - 2.0).abs() < 1e-12);
         let linear = [(1.0, 5.0), (10.0, 50.0)];
         assert!((fit_exponent(&linear).unwrap() - 1.0).abs() < 1e-12);
@@ -241,7 +246,10 @@ mod tests {
         };
         let rows = [row(100, 10, 1.0), row(100, 20, 4.0), row(200, 10, 2.0)];
         let text = report(&rows);
-        assert_eq!(text.lines().filter(|l| l.starts_with("| zipf")).count(), 3);
+        assert_eq!(
+            text.lines().filter(|l| l.starts_with("| zipf")).count(),
+            3
+        );
         assert!(text.contains("merge time ∝ C^2.00 on zipf V=100"), "{text}");
         assert!(text.contains("merge time ∝ V^1.00 at C = 10"), "{text}");
     }
