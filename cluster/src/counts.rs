@@ -14,7 +14,7 @@ use crate::tokenize::tokenize;
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct TokenOptions {
     /// Split raw text at Unicode word boundaries (see
-    /// [`tokenize`](crate::tokenize::tokenize)) instead of taking the
+    /// [`tokenize`]) instead of taking the
     /// tokens separated by spaces and tabs as they are. Default: off.
     pub tokenize: bool,
     /// Lowercase every token (Unicode lowercase mapping). Default: off.
