@@ -20,8 +20,10 @@ struct Cli {
 enum Command {
     Cluster(cmd::cluster::Args),
     Show(cmd::show::Args),
+    Featurize(cmd::featurize::Args),
     Demo(cmd::demo::Args),
     Bench(cmd::bench::Args),
+    Eval(cmd::eval::Args),
 }
 
 fn main() -> ExitCode {
@@ -29,8 +31,10 @@ fn main() -> ExitCode {
     let result = match cli.command {
         Command::Cluster(args) => cmd::cluster::run(args),
         Command::Show(args) => cmd::show::run(args),
+        Command::Featurize(args) => cmd::featurize::run(args),
         Command::Demo(args) => cmd::demo::run(args),
         Command::Bench(args) => cmd::bench::run(args),
+        Command::Eval(args) => cmd::eval::run(args),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -3,5 +3,7 @@
 mod util;
 
 mod cluster;
+mod eval;
+mod featurize;
 mod outside;
 mod show;

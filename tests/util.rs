@@ -141,6 +141,26 @@ pub fn brown_corpus() -> Option<PathBuf> {
     })
 }
 
+/// `name` inside the shared open-data directory (`LEXICLADE_DATA`, or
+/// `../shared/data` beside the checkout), or `None` after saying how to
+/// get it. Under CI missing data fails.
+pub fn shared_data(name: &str) -> Option<PathBuf> {
+    let root = std::env::var_os("LEXICLADE_DATA")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| repo().join("../shared/data"));
+    let path = root.join(name);
+    if path.exists() {
+        return Some(path);
+    }
+    let what = format!("the shared data {}", path.display());
+    let how = "set LEXICLADE_DATA to the shared data directory";
+    if std::env::var_os("CI").is_some() {
+        panic!("outside check cannot run: missing {what}; {how}");
+    }
+    eprintln!("skipped: missing {what}; {how}");
+    None
+}
+
 fn missing(what: &str) {
     let how = "run scripts/setup-reference.sh, or set LEXICLADE_PYTHON, \
                or LEXICLADE_BROWN";

@@ -4,6 +4,8 @@
 pub mod bench;
 pub mod cluster;
 pub mod demo;
+pub mod eval;
+pub mod featurize;
 pub mod show;
 
 /// Marks a failure of lexiclade itself rather than of its input: the

@@ -4,3 +4,10 @@
 //! This crate is a placeholder in the workspace until the tagger stage
 //! lands (see the tagger issue); it exposes nothing yet.
 #![deny(missing_docs)]
+pub mod columns;
+pub mod error;
+pub mod eval;
+pub mod model;
+pub mod perceptron;
+pub mod scheme;
+pub use error::{Error, Result};

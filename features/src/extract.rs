@@ -1,0 +1,1003 @@
+//! Turning a sentence into the features of each token, as strings or as
+//! ids of a frozen [`FeatureIndex`].
+//!
+//! # Feature strings
+//!
+//! Every feature is a template key followed by `=` and a value, or by
+//! `:` and a marker, or is a bare flag. Keys never hold `=` or `:`, so
+//! the text up to the first of them names the template and no two
+//! templates can produce the same string. Offsets are written `[-2]`,
+//! `[0]`, `[+1]`.
+//!
+//! | template | features |
+//! |---|---|
+//! | always | `bias` |
+//! | `lexical.word` | `w=The` |
+//! | `lexical.lowercase` | `lw=the` |
+//! | `lexical.char_prefixes` | `pre1=T`, `pre2=Th`, … |
+//! | `lexical.char_suffixes` | `suf1=e`, `suf2=he`, … |
+//! | `lexical.shape` | `shape=Xx` |
+//! | `lexical.case_flags` | `initcap`, `allcaps`, `hascap`, `mixedcap` |
+//! | `lexical.char_flags` | `hasdigit`, `alldigits`, `hashyphen`, `allpunct` |
+//! | `lexical.neighbours` | `w[-1]=cat`, `w[-2]:start`, `w[+1]:end` |
+//! | `clusters` prefixes | `p4[0]=0110`, `p4[+1]=10` |
+//! | `clusters.whole_path` | `path[-1]=011010` |
+//! | `clusters`, no path | `path[0]:none` |
+//! | `clusters`, outside | `path[-1]:start`, `path[+1]:end` |
+//!
+//! Features of one token come in the order of that table, each at most
+//! once. Character prefixes and suffixes count Unicode scalar values, up
+//! to the whole word. A path prefix longer than the path is the whole
+//! path. The markers `:start` and `:end` stand for window positions
+//! before the first token and after the last when
+//! [`FeatureConfig::boundary_markers`] is on; otherwise those positions
+//! emit nothing. A word without a path emits the one feature
+//! `path[OFFSET]:none` at each window position instead of its prefixes.
+//!
+//! # Cost
+//!
+//! Extraction writes each feature into one reused string and hands it to
+//! a sink, so a sentence costs no heap allocation once the caller's
+//! buffer has grown to fit; each word's path is looked up once per
+//! sentence however wide the window.
+//!
+//! [`FeatureConfig::boundary_markers`]: crate::FeatureConfig::boundary_markers
+
+use std::fmt::Write;
+
+use serde::{Deserialize, Serialize};
+
+use crate::config::{CheckedConfig, FeatureConfig};
+use crate::error::{Error, Result};
+use crate::index::FeatureIndex;
+use crate::paths::{lowercase_into, needs_lowercasing, Paths};
+
+/// Extracts the features of every token of a sentence.
+///
+/// Built once from a checked config and the clusters, then shared: it is
+/// immutable, `Send` and `Sync`, and each thread brings its own buffer.
+/// It serialises as its config and paths, so a model file can embed it,
+/// and deserialising checks both again.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(try_from = "RawExtractor")]
+pub struct Extractor {
+    config: CheckedConfig,
+    /// The clusters, if cluster features are on.
+    paths: Option<Paths>,
+}
+
+impl Extractor {
+    /// An extractor for `config`, with cluster features from `paths`
+    /// unless the config turns them off (`clusters.enabled = false`, and
+    /// then `paths` is dropped).
+    ///
+    /// # Errors
+    ///
+    /// [`Error::ClustersRequired`] if the config sets `clusters.enabled =
+    /// true` and `paths` is `None`.
+    pub fn new(
+        config: CheckedConfig,
+        paths: Option<Paths>,
+    ) -> Result<Extractor> {
+        let paths = match (config.clusters.enabled, paths) {
+            (Some(false), _) => None,
+            (Some(true), None) => return Err(Error::ClustersRequired),
+            (_, paths) => paths,
+        };
+        Ok(Extractor { config, paths })
+    }
+
+    /// The config.
+    pub fn config(&self) -> &FeatureConfig {
+        self.config.get()
+    }
+
+    /// The clusters, if cluster features are on.
+    pub fn paths(&self) -> Option<&Paths> {
+        self.paths.as_ref()
+    }
+
+    /// Whether cluster features are emitted.
+    pub fn uses_clusters(&self) -> bool {
+        self.paths.is_some()
+    }
+
+    /// Fills `out` with the features of every token of `tokens`, replacing
+    /// what it held.
+    pub fn extract<S: AsRef<str>>(&self, tokens: &[S], out: &mut Features) {
+        let Features { text, ends, token_ends, scratch } = out;
+        text.clear();
+        ends.clear();
+        token_ends.clear();
+        self.walk(tokens, scratch, &mut |i, feature| {
+            while token_ends.len() < i {
+                token_ends.push(ends.len());
+            }
+            text.push_str(feature);
+            ends.push(text.len());
+        });
+        while token_ends.len() < tokens.len() {
+            token_ends.push(ends.len());
+        }
+    }
+
+    /// Fills `out` with the ids in `index` of the features of every token
+    /// of `tokens`, replacing what it held. Features not in the index are
+    /// skipped. This is the call of the tagger's inner loop.
+    pub fn extract_ids<S: AsRef<str>>(
+        &self,
+        index: &FeatureIndex,
+        tokens: &[S],
+        out: &mut FeatureIds,
+    ) {
+        let FeatureIds { ids, starts, scratch } = out;
+        ids.clear();
+        starts.clear();
+        starts.push(0);
+        self.walk(tokens, scratch, &mut |i, feature| {
+            while starts.len() <= i {
+                starts.push(ids.len());
+            }
+            if let Some(id) = index.get(feature) {
+                ids.push(id);
+            }
+        });
+        while starts.len() <= tokens.len() {
+            starts.push(ids.len());
+        }
+    }
+
+    /// Calls `sink(token_index, feature)` for every feature of every
+    /// token, tokens in order. The feature string is only lent: copy or
+    /// intern it to keep it.
+    pub fn for_each_feature<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        scratch: &mut Scratch,
+        mut sink: impl FnMut(usize, &str),
+    ) {
+        self.walk(tokens, scratch, &mut sink);
+    }
+
+    fn walk<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        s: &mut Scratch,
+        sink: &mut dyn FnMut(usize, &str),
+    ) {
+        let config = self.config.get();
+        let lex = &config.lexical;
+        let markers = config.boundary_markers;
+        let n = tokens.len();
+        s.path_ids.clear();
+        if let Some(paths) = &self.paths {
+            for t in tokens {
+                let id = paths.id_with(t.as_ref(), &mut s.key);
+                s.path_ids.push(id);
+            }
+        }
+        let f = &mut s.feature;
+        for (i, token) in tokens.iter().enumerate() {
+            let word = token.as_ref();
+            sink(i, "bias");
+            if lex.word {
+                f.clear();
+                f.push_str("w=");
+                f.push_str(word);
+                sink(i, f);
+            }
+            if lex.lowercase {
+                f.clear();
+                f.push_str("lw=");
+                if needs_lowercasing(word) {
+                    lowercase_into(word, &mut s.key);
+                    f.push_str(&s.key);
+                } else {
+                    f.push_str(word);
+                }
+                sink(i, f);
+            }
+            if lex.char_prefixes {
+                let ends = word.char_indices().map(|(k, c)| k + c.len_utf8());
+                for (k, end) in ends.take(lex.char_prefix_max).enumerate() {
+                    f.clear();
+                    let _ = write!(f, "pre{}=", k + 1);
+                    f.push_str(&word[..end]);
+                    sink(i, f);
+                }
+            }
+            if lex.char_suffixes {
+                let starts = word.char_indices().rev().map(|(k, _)| k);
+                for (k, start) in starts.take(lex.char_suffix_max).enumerate()
+                {
+                    f.clear();
+                    let _ = write!(f, "suf{}=", k + 1);
+                    f.push_str(&word[start..]);
+                    sink(i, f);
+                }
+            }
+            if lex.shape {
+                f.clear();
+                f.push_str("shape=");
+                push_shape(word, f);
+                sink(i, f);
+            }
+            if lex.case_flags {
+                let flags = case_flags(word);
+                for (on, name) in flags.iter().zip(CASE_FLAGS) {
+                    if *on {
+                        sink(i, name);
+                    }
+                }
+            }
+            if lex.char_flags {
+                let flags = char_flags(word);
+                for (on, name) in flags.iter().zip(CHAR_FLAGS) {
+                    if *on {
+                        sink(i, name);
+                    }
+                }
+            }
+            if lex.neighbours {
+                for &off in &lex.neighbour_offsets {
+                    let at = position(i, off, n);
+                    if at.is_err() && !markers {
+                        continue;
+                    }
+                    f.clear();
+                    f.push_str("w[");
+                    push_offset(off, f);
+                    match at {
+                        Ok(j) => {
+                            f.push_str("]=");
+                            f.push_str(tokens[j].as_ref());
+                        }
+                        Err(marker) => {
+                            f.push_str("]:");
+                            f.push_str(marker);
+                        }
+                    }
+                    sink(i, f);
+                }
+            }
+            if let Some(paths) = &self.paths {
+                let c = &config.clusters;
+                for &off in &c.window {
+                    let at = position(i, off, n);
+                    let id = match at {
+                        Ok(j) => s.path_ids[j],
+                        Err(_) if !markers => continue,
+                        Err(_) => None,
+                    };
+                    let Some(id) = id else {
+                        f.clear();
+                        f.push_str("path[");
+                        push_offset(off, f);
+                        f.push_str("]:");
+                        f.push_str(at.err().unwrap_or("none"));
+                        sink(i, f);
+                        continue;
+                    };
+                    let path = paths.path_of_id(id);
+                    for &len in &c.prefix_lengths {
+                        f.clear();
+                        let _ = write!(f, "p{len}[");
+                        push_offset(off, f);
+                        f.push_str("]=");
+                        // Paths are ASCII 0s and 1s: any cut is a boundary.
+                        f.push_str(&path[..len.min(path.len())]);
+                        sink(i, f);
+                    }
+                    if c.whole_path {
+                        f.clear();
+                        f.push_str("path[");
+                        push_offset(off, f);
+                        f.push_str("]=");
+                        f.push_str(path);
+                        sink(i, f);
+                    }
+                }
+            }
+        }
+    }
+}
+
+/// The token at offset `off` from `i` in a sentence of `n`, or the
+/// marker of the edge it falls beyond.
+fn position(i: usize, off: i32, n: usize) -> Result<usize, &'static str> {
+    let j = i as i64 + i64::from(off);
+    if j < 0 {
+        Err("start")
+    } else if j >= n as i64 {
+        Err("end")
+    } else {
+        Ok(j as usize)
+    }
+}
+
+/// Writes `-2`, `0` or `+1`.
+fn push_offset(off: i32, f: &mut String) {
+    if off > 0 {
+        f.push('+');
+    }
+    let _ = write!(f, "{off}");
+}
+
+/// Appends the shape class of `word`: capitals `X`, lowercase letters
+/// `x`, letters without case `a`, digits `d`, anything else itself, runs
+/// of one class collapsed.
+fn push_shape(word: &str, f: &mut String) {
+    let mut last = None;
+    for c in word.chars() {
+        let class = if c.is_uppercase() {
+            'X'
+        } else if c.is_lowercase() {
+            'x'
+        } else if c.is_alphabetic() {
+            'a'
+        } else if c.is_numeric() {
+            'd'
+        } else {
+            c
+        };
+        if last != Some(class) {
+            f.push(class);
+            last = Some(class);
+        }
+    }
+}
+
+const CASE_FLAGS: [&str; 4] = ["initcap", "allcaps", "hascap", "mixedcap"];
+
+/// Which of [`CASE_FLAGS`] hold for `word`.
+fn case_flags(word: &str) -> [bool; 4] {
+    let initcap = word.chars().next().is_some_and(char::is_uppercase);
+    let has_upper = word.chars().any(char::is_uppercase);
+    let has_lower = word.chars().any(char::is_lowercase);
+    let later_upper = word.chars().skip(1).any(char::is_uppercase);
+    [initcap, has_upper && !has_lower, has_upper, has_lower && later_upper]
+}
+
+const CHAR_FLAGS: [&str; 4] =
+    ["hasdigit", "alldigits", "hashyphen", "allpunct"];
+
+/// Which of [`CHAR_FLAGS`] hold for `word`.
+fn char_flags(word: &str) -> [bool; 4] {
+    let nonempty = !word.is_empty();
+    let has_digit = word.chars().any(char::is_numeric);
+    let all_digits = nonempty && word.chars().all(char::is_numeric);
+    // ASCII hyphen-minus, Unicode hyphen and non-breaking hyphen.
+    let hyphen = word.contains(['-', '\u{2010}', '\u{2011}']);
+    let all_punct = nonempty && word.chars().all(|c| !c.is_alphanumeric());
+    [has_digit, all_digits, hyphen, all_punct]
+}
+
+/// Reusable space for one extraction: the feature being written, a
+/// lowercased word, and the path of each token of the sentence.
+#[derive(Clone, Debug, Default)]
+pub struct Scratch {
+    feature: String,
+    key: String,
+    path_ids: Vec<Option<u32>>,
+}
+
+/// The features of every token of one sentence, as strings, filled by
+/// [`Extractor::extract`]. Reuse one across sentences: it keeps its
+/// capacity.
+#[derive(Clone, Debug, Default)]
+pub struct Features {
+    /// Every feature, one after another.
+    text: String,
+    /// The end offset in `text` of each feature.
+    ends: Vec<usize>,
+    /// For each token, the index in `ends` after its last feature.
+    token_ends: Vec<usize>,
+    scratch: Scratch,
+}
+
+impl Features {
+    /// An empty buffer.
+    pub fn new() -> Features {
+        Features::default()
+    }
+
+    /// The number of tokens.
+    pub fn len(&self) -> usize {
+        self.token_ends.len()
+    }
+
+    /// Whether the sentence had no tokens.
+    pub fn is_empty(&self) -> bool {
+        self.token_ends.is_empty()
+    }
+
+    /// The features of token `i`, in order.
+    ///
+    /// # Panics
+    ///
+    /// If `i` is not below [`Features::len`].
+    pub fn token(&self, i: usize) -> TokenFeatures<'_> {
+        let first = if i == 0 { 0 } else { self.token_ends[i - 1] };
+        let last = self.token_ends[i];
+        let start = if first == 0 { 0 } else { self.ends[first - 1] };
+        TokenFeatures {
+            text: &self.text,
+            ends: &self.ends[first..last],
+            start,
+        }
+    }
+
+    /// The features of each token in turn.
+    pub fn iter(&self) -> impl ExactSizeIterator<Item = TokenFeatures<'_>> {
+        (0..self.len()).map(|i| self.token(i))
+    }
+}
+
+/// The features of one token, borrowed from [`Features`].
+#[derive(Clone, Debug)]
+pub struct TokenFeatures<'a> {
+    text: &'a str,
+    ends: &'a [usize],
+    start: usize,
+}
+
+impl<'a> Iterator for TokenFeatures<'a> {
+    type Item = &'a str;
+
+    fn next(&mut self) -> Option<&'a str> {
+        let (&end, rest) = self.ends.split_first()?;
+        let feature = &self.text[self.start..end];
+        self.start = end;
+        self.ends = rest;
+        Some(feature)
+    }
+
+    fn size_hint(&self) -> (usize, Option<usize>) {
+        (self.ends.len(), Some(self.ends.len()))
+    }
+}
+
+impl ExactSizeIterator for TokenFeatures<'_> {}
+
+/// The feature ids of every token of one sentence, in compressed sparse
+/// rows, filled by [`Extractor::extract_ids`]. Reuse one across
+/// sentences: it keeps its capacity.
+#[derive(Clone, Debug, Default)]
+pub struct FeatureIds {
+    ids: Vec<u32>,
+    /// `starts[i]..starts[i + 1]` are token `i`'s ids; one more entry
+    /// than tokens (or none before the first extraction).
+    starts: Vec<usize>,
+    scratch: Scratch,
+}
+
+impl FeatureIds {
+    /// An empty buffer.
+    pub fn new() -> FeatureIds {
+        FeatureIds::default()
+    }
+
+    /// The number of tokens.
+    pub fn len(&self) -> usize {
+        self.starts.len().saturating_sub(1)
+    }
+
+    /// Whether the sentence had no tokens.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// The ids of token `i`'s features, in extraction order.
+    ///
+    /// # Panics
+    ///
+    /// If `i` is not below [`FeatureIds::len`].
+    pub fn token(&self, i: usize) -> &[u32] {
+        &self.ids[self.starts[i]..self.starts[i + 1]]
+    }
+
+    /// Every id of the sentence, token after token.
+    pub fn ids(&self) -> &[u32] {
+        &self.ids
+    }
+
+    /// Where each token's ids start in [`FeatureIds::ids`], and at the end
+    /// the total: `len() + 1` entries.
+    pub fn starts(&self) -> &[usize] {
+        &self.starts
+    }
+}
+
+/// The serialised form of an [`Extractor`], checked again on the way in.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawExtractor {
+    config: CheckedConfig,
+    paths: Option<Paths>,
+}
+
+impl TryFrom<RawExtractor> for Extractor {
+    type Error = Error;
+
+    fn try_from(raw: RawExtractor) -> Result<Extractor> {
+        Extractor::new(raw.config, raw.paths)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::paths::tests::table;
+
+    /// Only the templates named, with window and lengths as given.
+    fn config(edit: impl FnOnce(&mut FeatureConfig)) -> CheckedConfig {
+        let mut c = FeatureConfig::default();
+        let l = &mut c.lexical;
+        l.word = false;
+        l.lowercase = false;
+        l.char_prefixes = false;
+        l.char_suffixes = false;
+        l.shape = false;
+        l.case_flags = false;
+        l.char_flags = false;
+        l.neighbours = false;
+        edit(&mut c);
+        c.check().unwrap()
+    }
+
+    fn features(e: &Extractor, tokens: &[&str]) -> Vec<Vec<String>> {
+        let mut out = Features::new();
+        e.extract(tokens, &mut out);
+        assert_eq!(out.len(), tokens.len());
+        out.iter().map(|t| t.map(String::from).collect()).collect()
+    }
+
+    fn paths(lowercase: bool) -> Paths {
+        Paths::from_table(&table(
+            &[("the", "0010"), ("cat", "011010"), ("sat", "1"), ("é", "0111")],
+            lowercase,
+            false,
+        ))
+    }
+
+    #[test]
+    fn default_lexical_features_of_a_short_sentence() {
+        let mut c = FeatureConfig::default();
+        c.clusters.enabled = Some(false);
+        let e =
+            Extractor::new(c.check().unwrap(), Some(paths(false))).unwrap();
+        assert!(!e.uses_clusters());
+        let got = features(&e, &["The", "U.S.", "sat-in", "42"]);
+        let want: [&[&str]; 4] = [
+            &[
+                "bias",
+                "w=The",
+                "lw=the",
+                "pre1=T",
+                "pre2=Th",
+                "pre3=The",
+                "suf1=e",
+                "suf2=he",
+                "suf3=The",
+                "shape=Xx",
+                "initcap",
+                "hascap",
+                "w[-2]:start",
+                "w[-1]:start",
+                "w[+1]=U.S.",
+                "w[+2]=sat-in",
+            ],
+            &[
+                "bias",
+                "w=U.S.",
+                "lw=u.s.",
+                "pre1=U",
+                "pre2=U.",
+                "pre3=U.S",
+                "pre4=U.S.",
+                "suf1=.",
+                "suf2=S.",
+                "suf3=.S.",
+                "suf4=U.S.",
+                "shape=X.X.",
+                "initcap",
+                "allcaps",
+                "hascap",
+                "w[-2]:start",
+                "w[-1]=The",
+                "w[+1]=sat-in",
+                "w[+2]=42",
+            ],
+            &[
+                "bias",
+                "w=sat-in",
+                "lw=sat-in",
+                "pre1=s",
+                "pre2=sa",
+                "pre3=sat",
+                "pre4=sat-",
+                "suf1=n",
+                "suf2=in",
+                "suf3=-in",
+                "suf4=t-in",
+                "shape=x-x",
+                "hashyphen",
+                "w[-2]=The",
+                "w[-1]=U.S.",
+                "w[+1]=42",
+                "w[+2]:end",
+            ],
+            &[
+                "bias",
+                "w=42",
+                "lw=42",
+                "pre1=4",
+                "pre2=42",
+                "suf1=2",
+                "suf2=42",
+                "shape=d",
+                "hasdigit",
+                "alldigits",
+                "w[-2]=U.S.",
+                "w[-1]=sat-in",
+                "w[+1]:end",
+                "w[+2]:end",
+            ],
+        ];
+        assert_eq!(got, want);
+    }
+
+    #[test]
+    fn cluster_features_with_and_without_paths() {
+        let c = config(|c| {
+            c.clusters.prefix_lengths = vec![2, 4, 8];
+            c.clusters.whole_path = true;
+            c.clusters.window = vec![-1, 0, 1];
+        });
+        let e = Extractor::new(c, Some(paths(false))).unwrap();
+        assert!(e.uses_clusters());
+        let got = features(&e, &["the", "cat", "purred"]);
+        let want: [&[&str]; 3] = [
+            &[
+                "bias",
+                "path[-1]:start",
+                "p2[0]=00",
+                "p4[0]=0010",
+                "p8[0]=0010",
+                "path[0]=0010",
+                "p2[+1]=01",
+                "p4[+1]=0110",
+                "p8[+1]=011010",
+                "path[+1]=011010",
+            ],
+            &[
+                "bias",
+                "p2[-1]=00",
+                "p4[-1]=0010",
+                "p8[-1]=0010",
+                "path[-1]=0010",
+                "p2[0]=01",
+                "p4[0]=0110",
+                "p8[0]=011010",
+                "path[0]=011010",
+                "path[+1]:none",
+            ],
+            &[
+                "bias",
+                "p2[-1]=01",
+                "p4[-1]=0110",
+                "p8[-1]=011010",
+                "path[-1]=011010",
+                "path[0]:none",
+                "path[+1]:end",
+            ],
+        ];
+        assert_eq!(got, want);
+    }
+
+    #[test]
+    fn a_prefix_longer_than_the_path_is_the_whole_path() {
+        let c = config(|c| {
+            c.clusters.prefix_lengths = vec![1, 20];
+            c.clusters.window = vec![0];
+        });
+        let e = Extractor::new(c, Some(paths(false))).unwrap();
+        assert_eq!(
+            features(&e, &["sat", "cat"]),
+            [
+                ["bias", "p1[0]=1", "p20[0]=1"],
+                ["bias", "p1[0]=0", "p20[0]=011010"]
+            ]
+        );
+    }
+
+    #[test]
+    fn out_of_range_positions_without_markers_emit_nothing() {
+        let c = config(|c| {
+            c.boundary_markers = false;
+            c.lexical.neighbours = true;
+            c.lexical.neighbour_offsets = vec![-5, 1];
+            c.clusters.prefix_lengths = vec![3];
+            c.clusters.window = vec![-2, 5];
+        });
+        let e = Extractor::new(c, Some(paths(false))).unwrap();
+        assert_eq!(
+            features(&e, &["the", "cat", "sat"]),
+            [
+                vec!["bias", "w[+1]=cat"],
+                vec!["bias", "w[+1]=sat"],
+                vec!["bias", "p3[-2]=001"],
+            ]
+        );
+        // A window far outside a one-word sentence, markers on.
+        let c = config(|c| {
+            c.lexical.neighbours = true;
+            c.lexical.neighbour_offsets = vec![-5, 5];
+            c.clusters.prefix_lengths = vec![3];
+            c.clusters.window = vec![-5, 5];
+        });
+        let e = Extractor::new(c, Some(paths(false))).unwrap();
+        assert_eq!(
+            features(&e, &["cat"]),
+            [[
+                "bias",
+                "w[-5]:start",
+                "w[+5]:end",
+                "path[-5]:start",
+                "path[+5]:end"
+            ]]
+        );
+    }
+
+    #[test]
+    fn unicode_words() {
+        let mut c = FeatureConfig::default();
+        c.lexical.neighbours = false;
+        c.clusters.prefix_lengths = vec![2];
+        c.clusters.window = vec![0];
+        let e =
+            Extractor::new(c.check().unwrap(), Some(paths(false))).unwrap();
+        let got = features(&e, &["Élan", "北京", "é", "…", "İ"]);
+        let want: [&[&str]; 5] = [
+            &[
+                "bias",
+                "w=Élan",
+                "lw=élan",
+                "pre1=É",
+                "pre2=Él",
+                "pre3=Éla",
+                "pre4=Élan",
+                "suf1=n",
+                "suf2=an",
+                "suf3=lan",
+                "suf4=Élan",
+                "shape=Xx",
+                "initcap",
+                "hascap",
+                "path[0]:none",
+            ],
+            &[
+                "bias",
+                "w=北京",
+                "lw=北京",
+                "pre1=北",
+                "pre2=北京",
+                "suf1=京",
+                "suf2=北京",
+                "shape=a",
+                "path[0]:none",
+            ],
+            &[
+                "bias", "w=é", "lw=é", "pre1=é", "suf1=é", "shape=x",
+                "p2[0]=01",
+            ],
+            &[
+                "bias",
+                "w=…",
+                "lw=…",
+                "pre1=…",
+                "suf1=…",
+                "shape=…",
+                "allpunct",
+                "path[0]:none",
+            ],
+            // Capital I with dot lowercases to two characters.
+            &[
+                "bias",
+                "w=İ",
+                "lw=i\u{307}",
+                "pre1=İ",
+                "suf1=İ",
+                "shape=X",
+                "initcap",
+                "allcaps",
+                "hascap",
+                "path[0]:none",
+            ],
+        ];
+        assert_eq!(got, want);
+    }
+
+    #[test]
+    fn shapes_and_flags() {
+        let shape = |w: &str| {
+            let mut f = String::new();
+            push_shape(w, &mut f);
+            f
+        };
+        assert_eq!(shape("McDonald's"), "XxXx'x");
+        assert_eq!(shape("iPhone"), "xXx");
+        assert_eq!(shape("1,000.50"), "d,d.d");
+        assert_eq!(shape("..."), ".");
+        assert_eq!(shape("A-1"), "X-d");
+        assert_eq!(shape(""), "");
+        assert_eq!(case_flags("McDonald"), [true, false, true, true]);
+        assert_eq!(case_flags("iPhone"), [false, false, true, true]);
+        assert_eq!(case_flags("USA"), [true, true, true, false]);
+        assert_eq!(case_flags("the"), [false; 4]);
+        assert_eq!(case_flags("123"), [false; 4]);
+        assert_eq!(char_flags("B-52"), [true, false, true, false]);
+        assert_eq!(char_flags("2024"), [true, true, false, false]);
+        assert_eq!(char_flags("--"), [false, false, true, true]);
+        assert_eq!(char_flags("\u{2010}"), [false, false, true, true]);
+        assert_eq!(char_flags("$"), [false, false, false, true]);
+        assert_eq!(char_flags(""), [false; 4]);
+    }
+
+    #[test]
+    fn lowercased_clusters_find_capitalised_words() {
+        let c = config(|c| {
+            c.clusters.prefix_lengths = vec![4];
+            c.clusters.window = vec![0];
+        });
+        let lower = Extractor::new(c.clone(), Some(paths(true))).unwrap();
+        let exact = Extractor::new(c, Some(paths(false))).unwrap();
+        let tokens = ["The", "CAT", "É"];
+        assert_eq!(
+            features(&lower, &tokens),
+            [
+                ["bias", "p4[0]=0010"],
+                ["bias", "p4[0]=0110"],
+                ["bias", "p4[0]=0111"]
+            ]
+        );
+        assert_eq!(features(&exact, &tokens), [["bias", "path[0]:none"]; 3]);
+    }
+
+    #[test]
+    fn cluster_switch() {
+        let on = config(|c| c.clusters.enabled = Some(true));
+        assert!(matches!(
+            Extractor::new(on.clone(), None),
+            Err(Error::ClustersRequired)
+        ));
+        assert!(Extractor::new(on, Some(paths(false)))
+            .unwrap()
+            .uses_clusters());
+        let auto = config(|_| {});
+        assert!(!Extractor::new(auto.clone(), None).unwrap().uses_clusters());
+        assert!(Extractor::new(auto, Some(paths(false)))
+            .unwrap()
+            .uses_clusters());
+        let off = config(|c| c.clusters.enabled = Some(false));
+        let e = Extractor::new(off, Some(paths(false))).unwrap();
+        assert!(!e.uses_clusters() && e.paths().is_none());
+        assert_eq!(features(&e, &["the"]), [["bias"]]);
+    }
+
+    #[test]
+    fn empty_sentence_and_buffer_reuse() {
+        let e =
+            Extractor::new(FeatureConfig::default().check().unwrap(), None)
+                .unwrap();
+        let mut out = Features::new();
+        e.extract(&["a", "b", "c"], &mut out);
+        assert_eq!(out.len(), 3);
+        e.extract::<&str>(&[], &mut out);
+        assert!(out.is_empty());
+        e.extract(&[String::from("x")], &mut out);
+        assert_eq!(out.len(), 1);
+        assert_eq!(out.token(0).next(), Some("bias"));
+        assert!(out.token(0).any(|f| f == "w=x"));
+        let mut ids = FeatureIds::new();
+        assert!(ids.is_empty());
+        let index = FeatureIndex::from_sentences(&e, [["x"]]);
+        e.extract_ids(&index, &[] as &[&str], &mut ids);
+        assert!(ids.is_empty() && ids.starts() == [0]);
+    }
+
+    #[test]
+    fn ids_follow_the_strings_and_skip_unknown_features() {
+        let c = config(|c| {
+            c.lexical.word = true;
+            c.clusters.prefix_lengths = vec![2];
+            c.clusters.window = vec![0];
+        });
+        let e = Extractor::new(c, Some(paths(false))).unwrap();
+        let index = FeatureIndex::from_sentences(&e, [["the", "cat"]]);
+        let mut ids = FeatureIds::new();
+        e.extract_ids(&index, &["cat", "dog", "the"], &mut ids);
+        let names = index.names();
+        let named: Vec<Vec<&str>> = (0..ids.len())
+            .map(|i| {
+                ids.token(i).iter().map(|&id| names[id as usize]).collect()
+            })
+            .collect();
+        assert_eq!(
+            named,
+            [
+                vec!["bias", "w=cat", "p2[0]=01"],
+                vec!["bias"],
+                vec!["bias", "w=the", "p2[0]=00"],
+            ]
+        );
+        assert_eq!(ids.starts(), [0, 3, 4, 7]);
+        assert_eq!(ids.ids().len(), 7);
+    }
+
+    #[test]
+    fn for_each_feature_visits_what_extract_stores() {
+        let e = Extractor::new(
+            FeatureConfig::default().check().unwrap(),
+            Some(paths(true)),
+        )
+        .unwrap();
+        let tokens = ["The", "cat", "sat", "on", "the", "mat", "."];
+        let mut seen: Vec<Vec<String>> = vec![Vec::new(); tokens.len()];
+        let mut scratch = Scratch::default();
+        e.for_each_feature(&tokens, &mut scratch, |i, f| {
+            seen[i].push(f.to_string())
+        });
+        assert_eq!(seen, features(&e, &tokens));
+    }
+
+    #[test]
+    fn no_feature_repeats_within_a_token() {
+        let mut c = FeatureConfig::default();
+        c.clusters.whole_path = true;
+        c.clusters.window = vec![-2, -1, 0, 1, 2];
+        let e = Extractor::new(c.check().unwrap(), Some(paths(true))).unwrap();
+        let tokens = ["A", "the", "McCat", "--", "é", "sat", "X-1", "."];
+        for (i, token) in features(&e, &tokens).iter().enumerate() {
+            let mut sorted = token.clone();
+            sorted.sort();
+            sorted.dedup();
+            assert_eq!(sorted.len(), token.len(), "token {i}: {token:?}");
+            // Keys stop at the first `=` or `:`; the bias and flags have
+            // neither.
+            for f in token {
+                let key = f.split(['=', ':']).next().unwrap();
+                assert!(!key.is_empty() && !key.contains(' '), "{f}");
+            }
+        }
+    }
+
+    #[test]
+    fn extractor_serde_round_trip_checks_again() {
+        let c = config(|c| c.clusters.enabled = Some(true));
+        let e = Extractor::new(c, Some(paths(true))).unwrap();
+        let json = serde_json::to_string(&e).unwrap();
+        let back: Extractor = serde_json::from_str(&json).unwrap();
+        assert_eq!(back, e);
+        let without = json.replace(
+            &format!(
+                ",\"paths\":{}",
+                serde_json::to_string(&paths(true)).unwrap()
+            ),
+            ",\"paths\":null",
+        );
+        assert_ne!(without, json);
+        let err = serde_json::from_str::<Extractor>(&without).unwrap_err();
+        assert!(err.to_string().contains("clusters.enabled"), "{err}");
+    }
+
+    #[test]
+    fn extractors_and_buffers_can_cross_threads() {
+        fn shared<T: Send + Sync>() {}
+        shared::<Extractor>();
+        shared::<Paths>();
+        shared::<FeatureIndex>();
+        shared::<Features>();
+        shared::<FeatureIds>();
+    }
+}

@@ -1,0 +1,146 @@
+//! `lexiclade eval`: score predicted labels against gold labels, chunk by
+//! chunk, from one column file.
+
+use std::{
+    collections::HashSet,
+    io::{BufWriter, Write},
+    path::PathBuf,
+};
+
+use anyhow::{bail, Result};
+use lexiclade_tagger::{
+    columns::{read_columns, Column, ColumnFile, Sentence},
+    eval::Evaluator,
+    scheme::Scheme,
+};
+
+/// Score predicted labels against gold labels: chunk-level precision,
+/// recall and F1 per type and overall, and token accuracy.
+///
+/// PRED is a column file: one token per line, columns separated by spaces
+/// or tabs, a blank line between sentences, `-DOCSTART-` lines skipped.
+/// The second-to-last column is the gold label, the last the predicted
+/// one; the first column is the token when there are at least three. A
+/// chunk counts as correct only with exactly the gold boundaries and
+/// type; chunks are read with the CoNLL-2000 evaluation's rules in every
+/// scheme. Prints a table, or JSON with --json; figures in the table are
+/// percentages, in the JSON fractions.
+#[derive(clap::Args)]
+pub struct Args {
+    /// The column file with gold and predicted labels in its last two
+    /// columns; `-` reads standard input.
+    #[arg(value_name = "PRED")]
+    pred: PathBuf,
+    /// The tag scheme of the labels: iob1, iob2 (or bio), iobes, or none
+    /// (plain tags: token accuracy only). Default: detected from the gold
+    /// column: any S- or E- label means iobes; otherwise an I-X at a
+    /// sentence start, after O or after another type means iob1;
+    /// otherwise any B- or I- label means iob2; otherwise none.
+    #[arg(long, value_name = "S")]
+    scheme: Option<Scheme>,
+    /// A training file in the same column format, its token in the first
+    /// column: adds the accuracy on test tokens whose word never occurs in
+    /// it (exact, case-sensitive match) and their share of all tokens.
+    /// PRED then needs a token column before its two label columns.
+    #[arg(long, value_name = "F")]
+    train: Option<PathBuf>,
+    /// Print the figures as one JSON object instead of the table.
+    #[arg(long)]
+    json: bool,
+}
+
+/// The gold column: second to last.
+const GOLD: Column = match Column::new(-2) {
+    Some(column) => column,
+    None => unreachable!(),
+};
+
+/// Runs the command.
+pub fn run(args: Args) -> Result<()> {
+    let file = read_columns(&args.pred)?;
+    let need = if args.train.is_some() { 3 } else { 2 };
+    for sentence in &file.sentences {
+        check_width(sentence, need, args.train.is_some())?;
+    }
+    let train = args.train.as_deref().map(read_columns).transpose()?;
+    let vocabulary: Option<HashSet<&str>> =
+        train.as_ref().map(|t| t.vocabulary(Column::FIRST)).transpose()?;
+    let known =
+        |word: &str| vocabulary.as_ref().is_some_and(|v| v.contains(word));
+
+    let labelled = labelled(&file)?;
+    let scheme = match args.scheme {
+        Some(scheme) => scheme,
+        None => {
+            let gold = Scheme::detect(labelled.iter().map(|(_, g, _)| g));
+            let predicted = Scheme::detect(labelled.iter().map(|(_, _, p)| p));
+            if !gold.has_chunks() && predicted.has_chunks() {
+                // Detection looks at the gold column only; all-O gold
+                // would silently hide every predicted chunk.
+                eprintln!(
+                    "lexiclade: notice: the gold labels hold no chunks, so \
+                     only tokens are scored; give --scheme to score the \
+                     predicted chunks"
+                );
+            }
+            gold
+        }
+    };
+    let mut eval = Evaluator::new(scheme);
+    if vocabulary.is_some() {
+        eval = eval.known_words(&known);
+    }
+    for (tokens, gold, predicted) in &labelled {
+        eval.add(tokens, gold, predicted)?;
+    }
+    let report = eval.report();
+
+    let mut out = BufWriter::new(std::io::stdout().lock());
+    if args.json {
+        serde_json::to_writer_pretty(&mut out, &report)?;
+        writeln!(out)?;
+    } else {
+        report.write_table(&mut out)?;
+    }
+    out.flush()?;
+    Ok(())
+}
+
+/// Refuses a sentence with fewer than `need` columns, naming its first
+/// line.
+fn check_width(sentence: &Sentence, need: usize, train: bool) -> Result<()> {
+    if sentence.width() >= need {
+        return Ok(());
+    }
+    let what = if train {
+        "with --train, eval needs a token column and then a gold and a \
+         predicted label column"
+    } else {
+        "eval needs a gold and a predicted label column (the last two)"
+    };
+    bail!(
+        "{}:{}: {what}, found {} column{}",
+        sentence.path().display(),
+        sentence.lines()[0],
+        sentence.width(),
+        if sentence.width() == 1 { "" } else { "s" }
+    )
+}
+
+/// Each sentence's tokens, gold and predicted labels. With only two
+/// columns there are no tokens, and the gold labels stand in for them
+/// (they are then used for nothing).
+type Labelled<'a> = (Vec<&'a str>, Vec<&'a str>, Vec<&'a str>);
+
+fn labelled(file: &ColumnFile) -> Result<Vec<Labelled<'_>>> {
+    file.sentences
+        .iter()
+        .map(|s| {
+            Ok((
+                s.column(Column::FIRST)?,
+                s.column(GOLD)?,
+                s.column(Column::LAST)?,
+            ))
+        })
+        .collect()
+}

@@ -1,0 +1,433 @@
+//! Column files: the plain format sequence-labelling data comes in. Each
+//! line is one token row of columns separated by runs of spaces or tabs
+//! (a token, perhaps other annotations, then labels), a blank line (or one
+//! holding only spaces and tabs) ends a sentence, and a line whose first
+//! column is `-DOCSTART-` is a document marker: it is skipped and ends the
+//! sentence too. CRLF line ends, a leading UTF-8 byte-order mark and a
+//! missing final newline are accepted; lines may be of any length.
+//!
+//! Every row of a sentence must have as many columns as its first row.
+//! Columns are named by [`Column`]: 1-based, negative counting from the
+//! end, so a reader can ask for "the token" and "the last label" without
+//! knowing how many columns lie between.
+//!
+//! A sentence keeps its cells in one string with their end offsets and
+//! the line number of each row, so reading costs two allocations per
+//! sentence rather than one per cell.
+
+use std::{
+    collections::HashSet,
+    fmt,
+    fs::File,
+    io::{self, BufRead, BufReader},
+    path::{Path, PathBuf},
+    str::FromStr,
+    sync::Arc,
+};
+
+use crate::error::{Error, Result};
+
+/// The first column of a document-marker line.
+pub const DOCSTART: &str = "-DOCSTART-";
+
+/// A column of a row, as users name it: 1-based from the start, or
+/// negative counting from the end (`-1` is the last column). Never 0.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct Column(isize);
+
+impl Column {
+    /// The first column.
+    pub const FIRST: Column = Column(1);
+    /// The last column.
+    pub const LAST: Column = Column(-1);
+
+    /// The column `index` (1-based, negative from the end), or `None` for
+    /// 0.
+    pub const fn new(index: isize) -> Option<Column> {
+        if index == 0 {
+            None
+        } else {
+            Some(Column(index))
+        }
+    }
+
+    /// The index as the user gave it.
+    pub const fn get(self) -> isize {
+        self.0
+    }
+
+    /// The 0-based position of this column in a row of `width` columns,
+    /// or `None` when the row does not have it.
+    pub fn resolve(self, width: usize) -> Option<usize> {
+        let k = self.0.unsigned_abs();
+        if k > width {
+            None
+        } else if self.0 > 0 {
+            Some(k - 1)
+        } else {
+            Some(width - k)
+        }
+    }
+}
+
+impl fmt::Display for Column {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.0)
+    }
+}
+
+impl FromStr for Column {
+    type Err = Error;
+
+    fn from_str(s: &str) -> Result<Column> {
+        let reason = || {
+            format!(
+                "{s:?}: expected a non-zero integer (1 is the first column, \
+                 -1 the last)"
+            )
+        };
+        let index: isize = s.trim().parse().map_err(|_| {
+            Error::InvalidParam { name: "column", reason: reason() }
+        })?;
+        Column::new(index)
+            .ok_or(Error::InvalidParam { name: "column", reason: reason() })
+    }
+}
+
+/// Which columns hold the token and the label.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct ColumnSpec {
+    /// The token column. Default: the first.
+    pub token: Column,
+    /// The label column. Default: the last.
+    pub label: Column,
+}
+
+impl Default for ColumnSpec {
+    fn default() -> Self {
+        ColumnSpec { token: Column::FIRST, label: Column::LAST }
+    }
+}
+
+/// One sentence of a column file: its rows of cells and the line number
+/// of each row.
+#[derive(Clone, Debug)]
+pub struct Sentence {
+    path: Arc<Path>,
+    /// Every cell, row after row, concatenated.
+    text: String,
+    /// The end offset in `text` of each cell; cell `k` starts where cell
+    /// `k - 1` ends.
+    ends: Vec<usize>,
+    width: usize,
+    lines: Vec<u64>,
+}
+
+impl Sentence {
+    /// The number of rows (tokens); at least 1.
+    pub fn len(&self) -> usize {
+        self.lines.len()
+    }
+
+    /// Always false: a sentence has at least one row.
+    pub fn is_empty(&self) -> bool {
+        self.lines.is_empty()
+    }
+
+    /// The number of columns of every row.
+    pub fn width(&self) -> usize {
+        self.width
+    }
+
+    /// The 1-based line number of each row in the file.
+    pub fn lines(&self) -> &[u64] {
+        &self.lines
+    }
+
+    /// The file the sentence was read from (`-` for standard input).
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// The cell at 0-based `row` and `col`.
+    ///
+    /// # Panics
+    ///
+    /// When `row >= self.len()` or `col >= self.width()`.
+    pub fn cell(&self, row: usize, col: usize) -> &str {
+        assert!(col < self.width, "column {col} of {}", self.width);
+        let k = row * self.width + col;
+        let start = if k == 0 { 0 } else { self.ends[k - 1] };
+        &self.text[start..self.ends[k]]
+    }
+
+    /// The cells of 0-based `row`, in order.
+    ///
+    /// # Panics
+    ///
+    /// When `row >= self.len()`.
+    pub fn row(&self, row: usize) -> impl ExactSizeIterator<Item = &str> {
+        assert!(row < self.len(), "row {row} of {}", self.len());
+        (0..self.width).map(move |col| self.cell(row, col))
+    }
+
+    /// The cells of `column`, one per row; an error naming the file and
+    /// the sentence's first line when its rows do not have that column.
+    pub fn column(&self, column: Column) -> Result<Vec<&str>> {
+        let col =
+            column.resolve(self.width).ok_or_else(|| Error::NoColumn {
+                path: self.path.to_path_buf(),
+                line: self.lines[0],
+                column: column.get(),
+                width: self.width,
+            })?;
+        Ok((0..self.len()).map(|row| self.cell(row, col)).collect())
+    }
+
+    /// The tokens: the cells of `spec.token`.
+    pub fn tokens(&self, spec: &ColumnSpec) -> Result<Vec<&str>> {
+        self.column(spec.token)
+    }
+
+    /// The labels: the cells of `spec.label`.
+    pub fn labels(&self, spec: &ColumnSpec) -> Result<Vec<&str>> {
+        self.column(spec.label)
+    }
+}
+
+/// A whole column file in memory.
+#[derive(Clone, Debug)]
+pub struct ColumnFile {
+    /// The file as the caller named it (`-` for standard input).
+    pub path: PathBuf,
+    /// The sentences in file order; never empty.
+    pub sentences: Vec<Sentence>,
+}
+
+impl ColumnFile {
+    /// The number of token rows over all sentences.
+    pub fn tokens(&self) -> usize {
+        self.sentences.iter().map(Sentence::len).sum()
+    }
+
+    /// The distinct cells of `column` over the whole file, such as the
+    /// vocabulary of a training file.
+    pub fn vocabulary(&self, column: Column) -> Result<HashSet<&str>> {
+        let mut words = HashSet::new();
+        for sentence in &self.sentences {
+            words.extend(sentence.column(column)?);
+        }
+        Ok(words)
+    }
+}
+
+/// Reads the column file at `path`; `-` reads standard input.
+pub fn read_columns(path: &Path) -> Result<ColumnFile> {
+    if path.as_os_str() == "-" {
+        read_columns_from(io::stdin().lock(), path)
+    } else {
+        let file = File::open(path).map_err(|e| Error::io(path, e))?;
+        read_columns_from(BufReader::with_capacity(1 << 16, file), path)
+    }
+}
+
+/// Reads a column file from `reader`; `name` is used in messages.
+pub fn read_columns_from<R: BufRead>(
+    mut reader: R,
+    name: &Path,
+) -> Result<ColumnFile> {
+    let path: Arc<Path> = Arc::from(name);
+    let mut sentences = Vec::new();
+    let mut current: Option<Sentence> = None;
+    let mut buf = Vec::new();
+    let mut line: u64 = 0;
+    loop {
+        buf.clear();
+        let n = reader
+            .read_until(b'\n', &mut buf)
+            .map_err(|e| Error::io(name, e))?;
+        if n == 0 {
+            break;
+        }
+        line += 1;
+        let mut bytes = &buf[..];
+        if let Some(rest) = bytes.strip_suffix(b"\n") {
+            bytes = rest;
+        }
+        if let Some(rest) = bytes.strip_suffix(b"\r") {
+            bytes = rest;
+        }
+        if line == 1 {
+            if let Some(rest) = bytes.strip_prefix(b"\xEF\xBB\xBF") {
+                bytes = rest;
+            }
+        }
+        let text = std::str::from_utf8(bytes).map_err(|_| {
+            Error::InvalidUtf8 { path: name.to_path_buf(), line }
+        })?;
+        let mut cells = text.split([' ', '\t']).filter(|c| !c.is_empty());
+        let first = match cells.next() {
+            None => {
+                sentences.extend(current.take());
+                continue;
+            }
+            Some(DOCSTART) => {
+                sentences.extend(current.take());
+                continue;
+            }
+            Some(first) => first,
+        };
+        let sentence = current.get_or_insert_with(|| Sentence {
+            path: Arc::clone(&path),
+            text: String::new(),
+            ends: Vec::new(),
+            width: 0,
+            lines: Vec::new(),
+        });
+        let before = sentence.ends.len();
+        for cell in std::iter::once(first).chain(cells) {
+            sentence.text.push_str(cell);
+            sentence.ends.push(sentence.text.len());
+        }
+        let got = sentence.ends.len() - before;
+        if sentence.lines.is_empty() {
+            sentence.width = got;
+        } else if got != sentence.width {
+            return Err(Error::ColumnCount {
+                path: name.to_path_buf(),
+                line,
+                first_line: sentence.lines[0],
+                expected: sentence.width,
+                got,
+            });
+        }
+        sentence.lines.push(line);
+    }
+    sentences.extend(current);
+    if sentences.is_empty() {
+        return Err(Error::Empty { path: name.to_path_buf() });
+    }
+    Ok(ColumnFile { path: name.to_path_buf(), sentences })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn read(input: &[u8]) -> Result<ColumnFile> {
+        read_columns_from(input, Path::new("mem"))
+    }
+
+    fn rows(file: &ColumnFile) -> Vec<Vec<Vec<&str>>> {
+        file.sentences
+            .iter()
+            .map(|s| (0..s.len()).map(|r| s.row(r).collect()).collect())
+            .collect()
+    }
+
+    #[test]
+    fn splits_rows_columns_and_sentences() {
+        let file = read(
+            b"-DOCSTART- -X- O\n\nEU  B-ORG\nrejects\tO\n \t\n\
+              German B-MISC\n-DOCSTART- O\nPeter B-PER\n\n\n",
+        )
+        .unwrap();
+        assert_eq!(
+            rows(&file),
+            vec![
+                vec![vec!["EU", "B-ORG"], vec!["rejects", "O"]],
+                vec![vec!["German", "B-MISC"]],
+                vec![vec!["Peter", "B-PER"]],
+            ]
+        );
+        let lines: Vec<&[u64]> =
+            file.sentences.iter().map(|s| s.lines()).collect();
+        assert_eq!(lines, [&[3, 4][..], &[6], &[8]]);
+        assert_eq!(file.tokens(), 4);
+        assert_eq!(file.sentences[0].width(), 2);
+    }
+
+    #[test]
+    fn accepts_crlf_bom_and_no_final_newline() {
+        let file = read(b"\xEF\xBB\xBFa B-X\r\nb I-X\r\n\r\nc O").unwrap();
+        assert_eq!(
+            rows(&file),
+            vec![
+                vec![vec!["a", "B-X"], vec!["b", "I-X"]],
+                vec![vec!["c", "O"]],
+            ]
+        );
+    }
+
+    #[test]
+    fn very_long_lines_are_fine() {
+        let long = "x".repeat(1 << 20);
+        let input = format!("{long} O\n");
+        let file = read(input.as_bytes()).unwrap();
+        assert_eq!(file.sentences[0].cell(0, 0).len(), 1 << 20);
+    }
+
+    #[test]
+    fn invalid_utf8_names_file_and_line() {
+        let err = read(b"a O\n\nb\xFF O\n").unwrap_err();
+        assert_eq!(err.to_string(), "mem:3: invalid UTF-8");
+    }
+
+    #[test]
+    fn a_wrong_column_count_names_the_line_and_both_counts() {
+        let err = read(b"a b O\n\nc d O\ne O\n").unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "mem:4: 2 columns, but the sentence's first row (line 3) has 3"
+        );
+        // Another sentence may have another width.
+        assert!(read(b"a b O\n\nc O\n").is_ok());
+    }
+
+    #[test]
+    fn a_file_without_token_rows_is_an_error() {
+        for input in [&b""[..], b"\n\n", b" \t\r\n", b"-DOCSTART- O\n\n"] {
+            let err = read(input).unwrap_err();
+            assert_eq!(err.to_string(), "mem: no token rows", "{input:?}");
+        }
+    }
+
+    #[test]
+    fn columns_resolve_from_both_ends() {
+        assert_eq!(Column::FIRST.resolve(3), Some(0));
+        assert_eq!(Column::LAST.resolve(3), Some(2));
+        assert_eq!(Column::new(-3).unwrap().resolve(3), Some(0));
+        assert_eq!(Column::new(3).unwrap().resolve(3), Some(2));
+        assert_eq!(Column::new(4).unwrap().resolve(3), None);
+        assert_eq!(Column::new(-4).unwrap().resolve(3), None);
+        assert_eq!(Column::new(0), None);
+        assert_eq!("-2".parse::<Column>().unwrap(), Column(-2));
+        assert!("0".parse::<Column>().is_err());
+        assert!("x".parse::<Column>().is_err());
+    }
+
+    #[test]
+    fn tokens_labels_and_missing_columns() {
+        let file = read(b"\nEU NNP B-ORG\nrejects VBZ O\n").unwrap();
+        let s = &file.sentences[0];
+        let spec = ColumnSpec::default();
+        assert_eq!(s.tokens(&spec).unwrap(), ["EU", "rejects"]);
+        assert_eq!(s.labels(&spec).unwrap(), ["B-ORG", "O"]);
+        assert_eq!(s.column(Column(2)).unwrap(), ["NNP", "VBZ"]);
+        let err = s.column(Column(-4)).unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "mem:2: there is no column -4 in a row of 3 columns"
+        );
+        let vocab = file.vocabulary(Column::FIRST).unwrap();
+        assert!(vocab.contains("EU") && vocab.contains("rejects"));
+        assert_eq!(vocab.len(), 2);
+    }
+
+    #[test]
+    fn missing_files_report_the_path_with_the_cause_as_source() {
+        let err = read_columns(Path::new("no/such/file.conll")).unwrap_err();
+        assert_eq!(err.to_string(), "no/such/file.conll");
+        assert!(std::error::Error::source(&err).is_some());
+    }
+}
