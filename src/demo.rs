@@ -207,6 +207,40 @@ pub fn corpus(sentences: usize, seed: u64) -> String {
     text
 }
 
+/// `sentences` labeled demo sentences for `seed` as a column file:
+/// token, tab, IOB2 label, a blank line after each sentence. Barges are
+/// `VESSEL`, places `PLACE`, skippers and keepers `PERSON`; everything
+/// else is `O`.
+pub fn labeled(sentences: usize, seed: u64) -> String {
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let mut out = String::new();
+    for _ in 0..sentences {
+        let template = TEMPLATES[rng.random_range(0..TEMPLATES.len())];
+        for slot in template.split(' ') {
+            let (words, kind) = match slot {
+                "V" => (skewed(&mut rng, VESSELS), "VESSEL"),
+                "P" => (skewed(&mut rng, PLACES), "PLACE"),
+                "S" => (skewed(&mut rng, PEOPLE), "PERSON"),
+                "C" => (skewed(&mut rng, CARGO), ""),
+                "D" => (skewed(&mut rng, DAYS), ""),
+                "N" => (skewed(&mut rng, NUMBERS), ""),
+                "T" => (skewed(&mut rng, TIMES), ""),
+                literal => (literal, ""),
+            };
+            for (k, word) in words.split(' ').enumerate() {
+                let label = match (kind, k) {
+                    ("", _) => "O".to_string(),
+                    (kind, 0) => format!("B-{kind}"),
+                    (kind, _) => format!("I-{kind}"),
+                };
+                out.push_str(&format!("{word}\t{label}\n"));
+            }
+        }
+        out.push('\n');
+    }
+    out
+}
+
 /// A word of `words`, the first ones more often (Zipf-like, weight
 /// `1 / (k + 1)`), as names are in real logs.
 fn skewed<'a>(rng: &mut ChaCha8Rng, words: &[&'a str]) -> &'a str {

@@ -21,9 +21,11 @@ enum Command {
     Cluster(cmd::cluster::Args),
     Show(cmd::show::Args),
     Featurize(cmd::featurize::Args),
+    Train(cmd::train::Args),
+    Tag(cmd::tag::Args),
+    Eval(cmd::eval::Args),
     Demo(cmd::demo::Args),
     Bench(cmd::bench::Args),
-    Eval(cmd::eval::Args),
 }
 
 fn main() -> ExitCode {
@@ -35,6 +37,8 @@ fn main() -> ExitCode {
         Command::Demo(args) => cmd::demo::run(args),
         Command::Bench(args) => cmd::bench::run(args),
         Command::Eval(args) => cmd::eval::run(args),
+        Command::Train(args) => cmd::train::run(args),
+        Command::Tag(args) => cmd::tag::run(args),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -7,3 +7,4 @@ mod eval;
 mod featurize;
 mod outside;
 mod show;
+mod tagger;

@@ -69,7 +69,6 @@ pub struct ClusterFeatures {
     /// an error), `false` turns cluster features off even when clusters
     /// are given, and leaving the key out uses them exactly when they
     /// are given. Default: left out.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub enabled: Option<bool>,
     /// The path prefix lengths, in bits, each a feature at every window
     /// position. A length beyond a path's length takes the whole path.

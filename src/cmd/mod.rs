@@ -7,6 +7,8 @@ pub mod demo;
 pub mod eval;
 pub mod featurize;
 pub mod show;
+pub mod tag;
+pub mod train;
 
 /// Marks a failure of lexiclade itself rather than of its input: the
 /// command exits with code 1 instead of 2.

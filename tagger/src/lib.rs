@@ -9,5 +9,6 @@ pub mod error;
 pub mod eval;
 pub mod model;
 pub mod perceptron;
+pub mod pipeline;
 pub mod scheme;
 pub use error::{Error, Result};

@@ -39,9 +39,17 @@ pub struct Instance {
     pub starts: Vec<u32>,
     /// Gold label ids, one per token (empty when tagging).
     pub labels: Vec<u32>,
-    /// Candidate labels per token, or an empty list for "any label".
-    pub candidates: Vec<Vec<u32>>,
+    /// Per token, the index of its candidate list in the
+    /// [`Candidates`] given to the decoder, or [`ANY_LABEL`]. Empty means
+    /// any label everywhere.
+    pub candidates: Vec<u32>,
 }
+
+/// A token without a candidate list: every label is possible.
+pub const ANY_LABEL: u32 = u32::MAX;
+
+/// Candidate label lists that instances point into.
+pub type Candidates = [Vec<u32>];
 
 impl Instance {
     /// The number of tokens.
@@ -156,6 +164,7 @@ impl Weights {
         &self,
         x: &Instance,
         rules: &Constraints,
+        lists: &Candidates,
         buf: &mut Decoding,
     ) -> Vec<u32> {
         buf.emissions.clear();
@@ -172,7 +181,7 @@ impl Weights {
             }
         }
         let (emissions, lattice) = (&buf.emissions, &mut buf.lattice);
-        viterbi(x, self.labels, emissions, rules, lattice, |p, n| {
+        viterbi(x, self.labels, emissions, rules, lists, lattice, |p, n| {
             self.transition(p, n)
         })
     }
@@ -200,6 +209,7 @@ fn viterbi(
     labels: usize,
     emissions: &[f64],
     rules: &Constraints,
+    lists: &Candidates,
     lat: &mut Lattice,
     transition: impl Fn(usize, usize) -> f64,
 ) -> Vec<u32> {
@@ -213,7 +223,7 @@ fn viterbi(
     let all = &lat.all[..];
     let cands: Vec<&[u32]> = (0..n)
         .map(|i| match x.candidates.get(i) {
-            Some(c) if !c.is_empty() => c.as_slice(),
+            Some(&c) if c != ANY_LABEL => lists[c as usize].as_slice(),
             _ => all,
         })
         .collect();
@@ -332,7 +342,12 @@ impl Trainer {
     }
 
     /// Decodes `x` with the current weights.
-    pub fn predict(&mut self, x: &Instance, rules: &Constraints) -> Vec<u32> {
+    pub fn predict(
+        &mut self,
+        x: &Instance,
+        rules: &Constraints,
+        lists: &Candidates,
+    ) -> Vec<u32> {
         let labels = self.labels;
         let buf = &mut self.buf;
         buf.emissions.clear();
@@ -347,7 +362,7 @@ impl Trainer {
         }
         let trans = &self.transitions;
         let (emissions, lattice) = (&buf.emissions, &mut buf.lattice);
-        viterbi(x, labels, emissions, rules, lattice, |p, n| {
+        viterbi(x, labels, emissions, rules, lists, lattice, |p, n| {
             f64::from(trans[p * (labels + 1) + n].value)
         })
     }
@@ -355,9 +370,14 @@ impl Trainer {
     /// Trains on one sentence: decodes it and, where the output differs
     /// from the gold labels, moves the weights towards gold. Returns the
     /// number of tokens decoded wrongly.
-    pub fn learn(&mut self, x: &Instance, rules: &Constraints) -> usize {
+    pub fn learn(
+        &mut self,
+        x: &Instance,
+        rules: &Constraints,
+        lists: &Candidates,
+    ) -> usize {
         self.now += 1;
-        let predicted = self.predict(x, rules);
+        let predicted = self.predict(x, rules, lists);
         let gold = &x.labels;
         let wrong = predicted.iter().zip(gold).filter(|(p, g)| p != g).count();
         if wrong > 0 {
@@ -509,7 +529,7 @@ mod tests {
         let mut sums = NaiveSums::default();
         for _ in 0..3 {
             for x in &data {
-                t.learn(x, &rules);
+                t.learn(x, &rules, &[]);
                 t.accumulate(&mut sums);
             }
         }
@@ -524,13 +544,13 @@ mod tests {
         let mut t = Trainer::new(11, 3);
         for _ in 0..10 {
             for x in &data {
-                t.learn(x, &rules);
+                t.learn(x, &rules, &[]);
             }
         }
         let w = t.averaged();
         let mut buf = Decoding::default();
         for x in &data {
-            assert_eq!(w.decode(x, &rules, &mut buf), x.labels);
+            assert_eq!(w.decode(x, &rules, &[], &mut buf), x.labels);
         }
     }
 
@@ -549,16 +569,15 @@ mod tests {
         };
         let x = Instance::from_tokens(&[vec![0], vec![1]], vec![]);
         let mut buf = Decoding::default();
-        let got = w.decode(&x, &rules, &mut buf);
+        let got = w.decode(&x, &rules, &[], &mut buf);
         assert_ne!(got, vec![0, 1]);
-        let free = w.decode(&x, &Constraints::none(2), &mut buf);
+        let free = w.decode(&x, &Constraints::none(2), &[], &mut buf);
         assert_eq!(free, vec![0, 1]);
         let mut pruned = x.clone();
-        pruned.candidates = vec![vec![1], vec![]];
-        assert_eq!(
-            w.decode(&pruned, &Constraints::none(2), &mut buf),
-            vec![1, 1]
-        );
+        pruned.candidates = vec![0, ANY_LABEL];
+        let lists = [vec![1]];
+        let got = w.decode(&pruned, &Constraints::none(2), &lists, &mut buf);
+        assert_eq!(got, vec![1, 1]);
     }
 
     #[test]
@@ -567,19 +586,20 @@ mod tests {
         let rules = Constraints::none(3);
         let mut t = Trainer::new(11, 3);
         for x in &data {
-            t.learn(x, &rules);
+            t.learn(x, &rules, &[]);
         }
         let w = t.averaged();
         let mut buf = Decoding::default();
         for x in &data {
-            let full = w.decode(x, &rules, &mut buf);
+            let full = w.decode(x, &rules, &[], &mut buf);
             let mut pruned = x.clone();
             // Keep the full output's label and one other per token.
-            pruned.candidates = full
+            let lists: Vec<Vec<u32>> = full
                 .iter()
                 .map(|&y| vec![y.min((y + 1) % 3), y.max((y + 1) % 3)])
                 .collect();
-            assert_eq!(w.decode(&pruned, &rules, &mut buf), full);
+            pruned.candidates = (0..full.len() as u32).collect();
+            assert_eq!(w.decode(&pruned, &rules, &lists, &mut buf), full);
         }
     }
 }

@@ -1,0 +1,139 @@
+//! `lexiclade tag`: apply a trained model to column files or plain text.
+
+use std::{
+    io::{BufWriter, Write},
+    path::PathBuf,
+};
+
+use anyhow::{bail, Result};
+use lexiclade_cluster::{
+    text::{split_tokens, LineReader, Source},
+    tokenize::tokenize,
+};
+use lexiclade_tagger::{
+    columns::{read_columns, Column},
+    pipeline::{TagBuffers, TaggerModel},
+};
+
+/// Tag text with a model written by `lexiclade train`.
+///
+/// For column files, writes every input column and the predicted label
+/// as a last column, tab-separated, a blank line between sentences; with
+/// --plain, reads one sentence per line and writes the token and its
+/// label per line.
+#[derive(clap::Args)]
+pub struct Args {
+    /// The model file.
+    #[arg(long, value_name = "M")]
+    model: PathBuf,
+    /// Input files; `-` reads standard input.
+    #[arg(required = true, value_name = "INPUT")]
+    inputs: Vec<PathBuf>,
+    /// Where to write the output (default: standard output). Written to a
+    /// temporary file beside it and renamed at the end.
+    #[arg(long, value_name = "F")]
+    out: Option<PathBuf>,
+    /// The inputs are plain text, one sentence per line, tokens separated
+    /// by spaces and tabs.
+    #[arg(long)]
+    plain: bool,
+    /// With --plain: split raw text into words and punctuation as
+    /// `cluster --tokenize` does.
+    #[arg(long, requires = "plain")]
+    tokenize: bool,
+    /// The token column of column files, 1-based; negative counts from
+    /// the end.
+    #[arg(
+        long,
+        default_value = "1",
+        value_name = "N",
+        allow_hyphen_values = true
+    )]
+    token_column: Column,
+}
+
+/// Runs the command.
+pub fn run(args: Args) -> Result<()> {
+    if let Some(out) = &args.out {
+        let mut inputs = args.inputs.clone();
+        inputs.push(args.model.clone());
+        lexiclade::atomic::refuse_overlap(&inputs, out)?;
+    }
+    let model = TaggerModel::load(&args.model)?;
+    let mut work = TagBuffers::default();
+    let mut write = |out: &mut dyn Write| -> Result<()> {
+        for input in &args.inputs {
+            if args.plain {
+                tag_plain(&model, input, args.tokenize, &mut work, out)?;
+            } else {
+                let file = read_columns(input)?;
+                for sentence in &file.sentences {
+                    let tokens = sentence.column(args.token_column)?;
+                    let labels = model.tag(&tokens, &mut work);
+                    for (row, label) in labels.iter().enumerate() {
+                        let cells: Vec<&str> = sentence.row(row).collect();
+                        writeln!(out, "{}\t{}", cells.join("\t"), label)?;
+                    }
+                    writeln!(out)?;
+                }
+            }
+        }
+        Ok(())
+    };
+    match &args.out {
+        None => {
+            let stdout = std::io::stdout();
+            let mut out = BufWriter::new(stdout.lock());
+            write(&mut out)?;
+            out.flush()?;
+        }
+        Some(path) => {
+            let dir = match path.parent() {
+                Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+                _ => PathBuf::from("."),
+            };
+            let temp = tempfile::Builder::new()
+                .prefix(".tag.partial-")
+                .tempfile_in(&dir)?;
+            let mut out = BufWriter::new(temp);
+            write(&mut out)?;
+            let temp = out.into_inner().map_err(|e| e.into_error())?;
+            temp.as_file().sync_all()?;
+            if let Err(e) = temp.persist(path) {
+                bail!("{}: {}", path.display(), e.error);
+            }
+        }
+    }
+    Ok(())
+}
+
+fn tag_plain(
+    model: &TaggerModel,
+    input: &std::path::Path,
+    raw: bool,
+    work: &mut TagBuffers,
+    out: &mut dyn Write,
+) -> Result<()> {
+    let source = if input.as_os_str() == "-" {
+        Source::Stdin
+    } else {
+        Source::File(input.to_path_buf())
+    };
+    let mut reader = LineReader::new(source.open()?, source.name());
+    while let Some(line) = reader.next_line()? {
+        let mut tokens: Vec<&str> = Vec::new();
+        if raw {
+            tokenize(line, &mut tokens);
+        } else {
+            tokens.extend(split_tokens(line));
+        }
+        if tokens.is_empty() {
+            continue;
+        }
+        for (token, label) in tokens.iter().zip(model.tag(&tokens, work)) {
+            writeln!(out, "{token}\t{label}")?;
+        }
+        writeln!(out)?;
+    }
+    Ok(())
+}

@@ -1,0 +1,375 @@
+//! Training a tagger on labeled sentences and applying it: features,
+//! label sets and schemes, the tag dictionary, epochs with a development
+//! set, and the self-contained [`TaggerModel`].
+
+use std::collections::{BTreeMap, HashMap};
+use std::path::Path;
+use std::time::Instant;
+
+use lexiclade_features::{
+    CheckedConfig, Extractor, FeatureIds, FeatureIndex, Paths,
+};
+use rand::seq::SliceRandom;
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use serde::{Deserialize, Serialize};
+
+use crate::error::{Error, Result};
+use crate::eval::Evaluator;
+use crate::model;
+use crate::perceptron::{
+    Constraints, Decoding, Instance, Trainer, Weights, ANY_LABEL,
+};
+use crate::scheme::{self, Scheme};
+
+/// A labeled sentence: tokens and their labels.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Labeled {
+    /// The tokens.
+    pub tokens: Vec<String>,
+    /// One label per token.
+    pub labels: Vec<String>,
+}
+
+/// Training settings.
+#[derive(Clone, Debug)]
+pub struct TrainParams {
+    /// Passes over the training sentences (default 10).
+    pub epochs: usize,
+    /// Seed of the shuffling before each epoch (default 1).
+    pub seed: u64,
+    /// Restrict the labels of frequent words to those seen with them in
+    /// training (a tag dictionary; default on).
+    pub prune: bool,
+    /// The tag scheme of the labels; detected from the training labels
+    /// when `None`.
+    pub scheme: Option<Scheme>,
+}
+
+impl Default for TrainParams {
+    fn default() -> Self {
+        TrainParams { epochs: 10, seed: 1, prune: true, scheme: None }
+    }
+}
+
+/// A word enters the tag dictionary when seen at least this often; its
+/// candidate labels are those it was seen with. Rarer words may take any
+/// label.
+pub const DICTIONARY_MIN_COUNT: u32 = 10;
+
+/// What one epoch did, for progress reports.
+#[derive(Clone, Debug, PartialEq)]
+pub struct EpochReport {
+    /// 1-based epoch number.
+    pub epoch: usize,
+    /// Training tokens decoded per second in this epoch.
+    pub tokens_per_second: f64,
+    /// Training tokens decoded wrongly during the epoch.
+    pub mistakes: usize,
+    /// Score on the development sentences with the averaged weights
+    /// (F1 for chunk schemes, token accuracy otherwise), if any.
+    pub dev_score: Option<f64>,
+}
+
+/// Progress inside an epoch: sentences done of all.
+pub type Progress<'a> = &'a mut dyn FnMut(usize, usize);
+
+/// A trained tagger: everything needed to tag new text.
+#[derive(Clone, Debug, Serialize, Deserialize)]
+pub struct TaggerModel {
+    /// The version of lexiclade that trained it.
+    pub version: String,
+    /// The feature config and the paths of every clustered word.
+    pub extractor: Extractor,
+    /// The kept features.
+    pub features: FeatureIndex,
+    /// The labels the decoder works with (IOBES when the config asks).
+    pub labels: Vec<String>,
+    /// The scheme of the training labels; output is written in it.
+    pub scheme: Scheme,
+    /// The scheme the decoder works in.
+    pub internal: Scheme,
+    /// The averaged weights of the best epoch.
+    pub weights: Weights,
+    /// Which label sequences the decoder may produce.
+    pub rules: Constraints,
+    /// Frequent words and the index of their candidate labels in
+    /// `candidate_lists`; empty without pruning.
+    pub dictionary: BTreeMap<String, u32>,
+    /// Distinct candidate label lists (ids, sorted).
+    pub candidate_lists: Vec<Vec<u32>>,
+    /// The epoch whose weights were kept (1-based).
+    pub best_epoch: usize,
+}
+
+impl TaggerModel {
+    /// Trains on `train`, picking the epoch that scores best on `dev`
+    /// (the last epoch without it).
+    pub fn train(
+        train: &[Labeled],
+        dev: Option<&[Labeled]>,
+        config: CheckedConfig,
+        paths: Option<Paths>,
+        params: &TrainParams,
+        progress: Progress,
+        epoch_done: &mut dyn FnMut(&EpochReport),
+    ) -> Result<TaggerModel> {
+        if train.is_empty() {
+            return Err(Error::InvalidParam {
+                name: "train",
+                reason: "no training sentences".into(),
+            });
+        }
+        if params.epochs == 0 {
+            return Err(Error::InvalidParam {
+                name: "epochs",
+                reason: "at least 1 epoch is needed".into(),
+            });
+        }
+        let scheme = params.scheme.unwrap_or_else(|| {
+            Scheme::detect(train.iter().map(|s| &s.labels))
+        });
+        let internal = if config.iobes && scheme.has_chunks() {
+            Scheme::Iobes
+        } else {
+            scheme
+        };
+        let extractor =
+            Extractor::new(config, paths).map_err(features_error)?;
+        let features = FeatureIndex::from_sentences(
+            &extractor,
+            train.iter().map(|s| &s.tokens),
+        );
+
+        // Labels in the decoder's scheme, numbered in sorted order.
+        let converted: Vec<Vec<String>> = train
+            .iter()
+            .map(|s| scheme::convert(&s.labels, scheme, internal))
+            .collect();
+        let mut labels: Vec<String> =
+            converted.iter().flatten().cloned().collect();
+        labels.sort_unstable();
+        labels.dedup();
+        let label_id: HashMap<&str, u32> = labels
+            .iter()
+            .enumerate()
+            .map(|(k, l)| (l.as_str(), k as u32))
+            .collect();
+        let rules = constraints(&labels, internal);
+
+        let (dictionary, candidate_lists) = if params.prune {
+            tag_dictionary(train, &converted, &label_id)
+        } else {
+            (BTreeMap::new(), Vec::new())
+        };
+        let gold: Vec<Vec<u32>> = converted
+            .iter()
+            .map(|s| s.iter().map(|l| label_id[l.as_str()]).collect())
+            .collect();
+        let mut model = TaggerModel {
+            version: String::new(),
+            extractor,
+            features,
+            labels,
+            scheme,
+            internal,
+            weights: Trainer::new(0, 0).averaged(),
+            rules,
+            dictionary,
+            candidate_lists,
+            best_epoch: 0,
+        };
+        let mut ids = FeatureIds::new();
+        let instances: Vec<Instance> = train
+            .iter()
+            .zip(gold)
+            .map(|(s, gold)| {
+                let mut x = model.instance(&s.tokens, &mut ids);
+                x.labels = gold;
+                x
+            })
+            .collect();
+
+        let mut trainer =
+            Trainer::new(model.features.len(), model.labels.len());
+        let mut order: Vec<usize> = (0..instances.len()).collect();
+        let mut rng = ChaCha8Rng::seed_from_u64(params.seed);
+        let mut best: Option<(f64, Weights, usize)> = None;
+        for epoch in 1..=params.epochs {
+            order.shuffle(&mut rng);
+            let started = Instant::now();
+            let (mut mistakes, mut tokens) = (0, 0);
+            for (done, &k) in order.iter().enumerate() {
+                mistakes += trainer.learn(
+                    &instances[k],
+                    &model.rules,
+                    &model.candidate_lists,
+                );
+                tokens += instances[k].len();
+                if done % 256 == 0 {
+                    progress(done, order.len());
+                }
+            }
+            progress(order.len(), order.len());
+            let seconds = started.elapsed().as_secs_f64().max(1e-9);
+            model.weights = trainer.averaged();
+            let dev_score = dev.map(|d| model.score(d)).transpose()?;
+            epoch_done(&EpochReport {
+                epoch,
+                tokens_per_second: tokens as f64 / seconds,
+                mistakes,
+                dev_score,
+            });
+            let score = dev_score.unwrap_or(epoch as f64);
+            // Strictly better only: ties keep the earlier epoch.
+            if best.as_ref().is_none_or(|b| score > b.0) {
+                best = Some((score, model.weights.clone(), epoch));
+            }
+        }
+        let (_, weights, epoch) = best.expect("at least one epoch");
+        model.weights = weights;
+        model.best_epoch = epoch;
+        Ok(model)
+    }
+
+    /// The features and candidate labels of a sentence.
+    fn instance<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        ids: &mut FeatureIds,
+    ) -> Instance {
+        self.extractor.extract_ids(&self.features, tokens, ids);
+        let starts = ids.starts().iter().map(|&s| s as u32).collect();
+        let candidates = if self.dictionary.is_empty() {
+            Vec::new()
+        } else {
+            tokens
+                .iter()
+                .map(|t| {
+                    self.dictionary
+                        .get(t.as_ref())
+                        .copied()
+                        .unwrap_or(ANY_LABEL)
+                })
+                .collect()
+        };
+        Instance {
+            features: ids.ids().to_vec(),
+            starts,
+            labels: Vec::new(),
+            candidates,
+        }
+    }
+
+    /// Tags one sentence; labels come in the training data's scheme.
+    pub fn tag<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        work: &mut TagBuffers,
+    ) -> Vec<String> {
+        if tokens.is_empty() {
+            return Vec::new();
+        }
+        let x = self.instance(tokens, &mut work.ids);
+        let ids = self.weights.decode(
+            &x,
+            &self.rules,
+            &self.candidate_lists,
+            &mut work.decoding,
+        );
+        let internal: Vec<&str> =
+            ids.iter().map(|&y| self.labels[y as usize].as_str()).collect();
+        scheme::convert(&internal, self.internal, self.scheme)
+    }
+
+    /// The development score of the current weights: chunk F1 for chunk
+    /// schemes, token accuracy otherwise.
+    pub fn score(&self, sentences: &[Labeled]) -> Result<f64> {
+        let mut evaluator = Evaluator::new(self.scheme);
+        let mut work = TagBuffers::default();
+        for s in sentences {
+            let predicted = self.tag(&s.tokens, &mut work);
+            evaluator.add_labels(&s.labels, &predicted)?;
+        }
+        let report = evaluator.report();
+        Ok(match &report.overall {
+            Some(overall) => overall.f1,
+            None => report.token_accuracy,
+        })
+    }
+
+    /// Writes the model to `path` (atomically).
+    pub fn save(&self, path: &Path) -> Result<()> {
+        model::save(self, path)
+    }
+
+    /// Reads a model written by [`TaggerModel::save`].
+    pub fn load(path: &Path) -> Result<TaggerModel> {
+        model::load(path)
+    }
+}
+
+/// Reusable buffers for [`TaggerModel::tag`].
+#[derive(Default)]
+pub struct TagBuffers {
+    ids: FeatureIds,
+    decoding: Decoding,
+}
+
+/// The decoder's constraints for `labels` under `scheme`.
+fn constraints(labels: &[String], scheme: Scheme) -> Constraints {
+    Constraints::from_fn(
+        labels.len(),
+        |prev, next| {
+            scheme::allowed(
+                prev.map(|p| labels[p].as_str()),
+                &labels[next],
+                scheme,
+            )
+        },
+        |last| scheme::may_end(&labels[last], scheme),
+    )
+}
+
+/// Candidate labels of the words seen at least
+/// [`DICTIONARY_MIN_COUNT`] times: the labels they were seen with, as
+/// word → list index and the distinct lists.
+fn tag_dictionary(
+    train: &[Labeled],
+    labels: &[Vec<String>],
+    label_id: &HashMap<&str, u32>,
+) -> (BTreeMap<String, u32>, Vec<Vec<u32>>) {
+    let mut seen: HashMap<&str, (u32, Vec<u32>)> = HashMap::new();
+    for (s, gold) in train.iter().zip(labels) {
+        for (token, label) in s.tokens.iter().zip(gold) {
+            let entry = seen.entry(token.as_str()).or_default();
+            entry.0 += 1;
+            let id = label_id[label.as_str()];
+            if let Err(k) = entry.1.binary_search(&id) {
+                entry.1.insert(k, id);
+            }
+        }
+    }
+    let mut frequent: Vec<(&str, Vec<u32>)> = seen
+        .into_iter()
+        .filter(|(_, (count, _))| *count >= DICTIONARY_MIN_COUNT)
+        .map(|(word, (_, labels))| (word, labels))
+        .collect();
+    // Sorted, so that list numbers do not depend on hash order.
+    frequent.sort_unstable();
+    let mut lists: Vec<Vec<u32>> = Vec::new();
+    let mut list_id: HashMap<Vec<u32>, u32> = HashMap::new();
+    let mut dictionary = BTreeMap::new();
+    for (word, labels) in frequent {
+        let id = *list_id.entry(labels.clone()).or_insert_with(|| {
+            lists.push(labels);
+            lists.len() as u32 - 1
+        });
+        dictionary.insert(word.to_string(), id);
+    }
+    (dictionary, lists)
+}
+
+fn features_error(e: lexiclade_features::Error) -> Error {
+    Error::InvalidParam { name: "features", reason: e.to_string() }
+}
