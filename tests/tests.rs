@@ -6,5 +6,6 @@ mod cluster;
 mod eval;
 mod featurize;
 mod outside;
+mod pos;
 mod show;
 mod tagger;
