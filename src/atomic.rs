@@ -103,6 +103,67 @@ impl AtomicDir {
     }
 }
 
+/// A file that appears whole or not at all: written to a temporary file
+/// beside its target and renamed onto it by [`AtomicFile::commit`].
+pub struct AtomicFile {
+    target: PathBuf,
+    writer: std::io::BufWriter<tempfile::NamedTempFile>,
+}
+
+impl AtomicFile {
+    /// Prepares to write `target`; an existing file is refused unless
+    /// `force`.
+    pub fn create(target: &Path, force: bool) -> Result<AtomicFile> {
+        if target.is_dir() {
+            bail!("{}: is a directory", target.display());
+        }
+        if target.exists() && !force {
+            bail!("{}: exists (use --force to replace it)", target.display());
+        }
+        let name = target
+            .file_name()
+            .with_context(|| format!("{}: not a file name", target.display()))?
+            .to_string_lossy()
+            .into_owned();
+        let parent = match target.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p,
+            _ => Path::new("."),
+        };
+        let temp = tempfile::Builder::new()
+            .prefix(&format!(".{name}.partial-"))
+            .tempfile_in(parent)
+            .with_context(|| {
+                format!("{}: cannot create a file here", parent.display())
+            })?;
+        Ok(AtomicFile {
+            target: target.to_path_buf(),
+            writer: std::io::BufWriter::new(temp),
+        })
+    }
+
+    /// Where to write.
+    pub fn writer(&mut self) -> &mut dyn std::io::Write {
+        &mut self.writer
+    }
+
+    /// Flushes, syncs and renames the file into place.
+    pub fn commit(self) -> Result<()> {
+        let target = self.target;
+        let temp = self
+            .writer
+            .into_inner()
+            .map_err(|e| e.into_error())
+            .with_context(|| target.display().to_string())?;
+        temp.as_file()
+            .sync_all()
+            .with_context(|| target.display().to_string())?;
+        temp.persist(&target).with_context(|| {
+            format!("{}: cannot move the output into place", target.display())
+        })?;
+        Ok(())
+    }
+}
+
 /// Refuses an output that is one of the inputs or contains one: writing
 /// it would destroy what is being read.
 pub fn refuse_overlap(inputs: &[PathBuf], output: &Path) -> Result<()> {

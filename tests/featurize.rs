@@ -253,9 +253,9 @@ fn input_errors_are_one_line_with_exit_code_2() {
     dir.write("bad.conll", b"the DT\n\ncat\xff NN\n".as_slice());
     run("bad.conll").user_error("bad.conll:3: invalid UTF-8");
     dir.write("empty.conll", "");
-    run("empty.conll").user_error("empty.conll: empty file");
+    run("empty.conll").user_error("empty.conll: no token rows");
     dir.write("blank.conll", "\n-DOCSTART- O\n \n");
-    run("blank.conll").user_error("blank.conll:3: ");
+    run("blank.conll").user_error("blank.conll: no token rows");
     run("absent.conll").user_error("absent.conll");
     // CRLF and a byte-order mark read as plain lines.
     let crlf = format!("\u{feff}{}", COLUMNS.replace('\n', "\r\n"));

@@ -2,13 +2,14 @@
 //! files, to see what a feature config gives the tagger.
 
 use std::{
-    fs::File,
-    io::{self, BufRead, BufReader, BufWriter, Read, Write},
-    path::{Path, PathBuf},
+    io::{self, BufWriter, Write},
+    path::PathBuf,
 };
 
 use anyhow::{bail, Context, Result};
+use lexiclade::atomic::AtomicFile;
 use lexiclade_features::{Extractor, FeatureConfig, Features, Paths};
+use lexiclade_tagger::columns::{read_columns, Column};
 
 /// Write the features a config gives each token of column files.
 ///
@@ -101,31 +102,10 @@ pub fn run(args: Args) -> Result<()> {
         read.push(dir.clone());
     }
     lexiclade::atomic::refuse_overlap(&read, out)?;
-    if out.exists() && !args.force {
-        bail!("{}: exists (use --force to replace it)", out.display());
-    }
-    let name = out
-        .file_name()
-        .with_context(|| format!("{}: not a file name", out.display()))?
-        .to_string_lossy()
-        .into_owned();
-    let parent = match out.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
-    let temp = tempfile::Builder::new()
-        .prefix(&format!(".{name}.partial-"))
-        .tempfile_in(parent)
-        .with_context(|| {
-            format!("{}: cannot create a file here", parent.display())
-        })?;
-    let mut w = BufWriter::new(temp);
-    let (sentences, tokens) = featurize(&extractor, &args.inputs, &mut w)?;
-    let temp = w.into_inner().map_err(|e| e.into_error())?;
-    temp.as_file().sync_all()?;
-    temp.persist(out).with_context(|| {
-        format!("{}: cannot move the output into place", out.display())
-    })?;
+    let mut file = AtomicFile::create(out, args.force)?;
+    let (sentences, tokens) =
+        featurize(&extractor, &args.inputs, file.writer())?;
+    file.commit()?;
     if !args.quiet {
         eprintln!(
             "lexiclade: {sentences} sentences, {tokens} tokens; wrote {}",
@@ -143,19 +123,13 @@ fn featurize(
     w: &mut dyn Write,
 ) -> Result<(u64, u64)> {
     let mut features = Features::new();
-    let (mut sentences, mut tokens) = (0, 0);
+    let (mut sentences, mut tokens_seen) = (0, 0);
     for input in inputs {
-        let reader: Box<dyn Read> = if input.as_os_str() == "-" {
-            Box::new(io::stdin().lock())
-        } else {
-            Box::new(
-                File::open(input)
-                    .with_context(|| input.display().to_string())?,
-            )
-        };
-        let mut write_sentence = |sentence: &[&str]| -> io::Result<()> {
-            extractor.extract(sentence, &mut features);
-            for (token, feats) in sentence.iter().zip(features.iter()) {
+        let file = read_columns(input)?;
+        for sentence in &file.sentences {
+            let tokens = sentence.column(Column::FIRST)?;
+            extractor.extract(&tokens, &mut features);
+            for (token, feats) in tokens.iter().zip(features.iter()) {
                 w.write_all(token.as_bytes())?;
                 for f in feats {
                     w.write_all(b"\t")?;
@@ -164,88 +138,9 @@ fn featurize(
                 w.write_all(b"\n")?;
             }
             sentences += 1;
-            tokens += sentence.len() as u64;
-            w.write_all(b"\n")
-        };
-        read_columns(input, reader, &mut write_sentence)?;
-    }
-    Ok((sentences, tokens))
-}
-
-/// Reads the first column of a column file and calls `sentence` with the
-/// tokens of each sentence.
-///
-/// A stand-in until the tagger's column reader can be used here: one
-/// token a line in the first field (fields split at spaces and tabs),
-/// blank lines end sentences, `-DOCSTART-` lines are skipped and end a
-/// sentence. A byte-order mark and CRLF line ends are accepted. Invalid
-/// UTF-8 and a file without a token are errors naming the file and line.
-fn read_columns(
-    path: &Path,
-    reader: impl Read,
-    sentence: &mut dyn FnMut(&[&str]) -> io::Result<()>,
-) -> Result<()> {
-    let mut reader = BufReader::new(reader);
-    let mut line = Vec::new();
-    // The tokens of the current sentence, end to end, and where each
-    // ends: no allocation per token.
-    let mut text = String::new();
-    let mut ends: Vec<usize> = Vec::new();
-    let mut number = 0u64;
-    let mut any_token = false;
-    let mut flush = |text: &mut String, ends: &mut Vec<usize>| {
-        if ends.is_empty() {
-            return Ok(());
-        }
-        let mut start = 0;
-        let tokens: Vec<&str> = ends
-            .iter()
-            .map(|&end| {
-                let t = &text[start..end];
-                start = end;
-                t
-            })
-            .collect();
-        let result = sentence(&tokens);
-        text.clear();
-        ends.clear();
-        result
-    };
-    loop {
-        line.clear();
-        let read = reader
-            .read_until(b'\n', &mut line)
-            .with_context(|| path.display().to_string())?;
-        if read == 0 {
-            break;
-        }
-        number += 1;
-        let mut bytes = line.as_slice();
-        if number == 1 {
-            bytes = bytes.strip_prefix(b"\xef\xbb\xbf").unwrap_or(bytes);
-        }
-        let Ok(s) = std::str::from_utf8(bytes) else {
-            bail!("{}:{}: invalid UTF-8", path.display(), number);
-        };
-        match s.split_whitespace().next() {
-            None | Some("-DOCSTART-") => flush(&mut text, &mut ends)?,
-            Some(token) => {
-                text.push_str(token);
-                ends.push(text.len());
-                any_token = true;
-            }
+            tokens_seen += tokens.len() as u64;
+            w.write_all(b"\n")?;
         }
     }
-    flush(&mut text, &mut ends)?;
-    if !any_token {
-        if number == 0 {
-            bail!("{}: empty file, no tokens", path.display());
-        }
-        bail!(
-            "{}:{}: end of file and no token in any line",
-            path.display(),
-            number
-        );
-    }
-    Ok(())
+    Ok((sentences, tokens_seen))
 }

@@ -5,7 +5,8 @@ use std::{
     path::PathBuf,
 };
 
-use anyhow::{bail, Result};
+use anyhow::Result;
+use lexiclade::atomic::AtomicFile;
 use lexiclade_cluster::{
     text::{split_tokens, LineReader, Source},
     tokenize::tokenize,
@@ -37,6 +38,9 @@ pub struct Args {
     /// by spaces and tabs.
     #[arg(long)]
     plain: bool,
+    /// Replace the output file if it exists.
+    #[arg(long)]
+    force: bool,
     /// With --plain: split raw text into words and punctuation as
     /// `cluster --tokenize` does.
     #[arg(long, requires = "plain")]
@@ -88,20 +92,9 @@ pub fn run(args: Args) -> Result<()> {
             out.flush()?;
         }
         Some(path) => {
-            let dir = match path.parent() {
-                Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-                _ => PathBuf::from("."),
-            };
-            let temp = tempfile::Builder::new()
-                .prefix(".tag.partial-")
-                .tempfile_in(&dir)?;
-            let mut out = BufWriter::new(temp);
-            write(&mut out)?;
-            let temp = out.into_inner().map_err(|e| e.into_error())?;
-            temp.as_file().sync_all()?;
-            if let Err(e) = temp.persist(path) {
-                bail!("{}: {}", path.display(), e.error);
-            }
+            let mut file = AtomicFile::create(path, args.force)?;
+            write(file.writer())?;
+            file.commit()?;
         }
     }
     Ok(())
