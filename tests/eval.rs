@@ -470,7 +470,9 @@ fn bad_input_is_one_line_and_exit_2() {
     );
     dir.write("two.conll", "O O\n");
     lexiclade(dir.path(), &["eval", "two.conll", "--train", "two.conll"])
-        .user_error("two.conll:1: with --train or --model, eval needs a token column");
+        .user_error(
+            "two.conll:1: with --train or --model, eval needs a token column",
+        );
     lexiclade(dir.path(), &["eval", "missing.conll"])
         .user_error("lexiclade: missing.conll: ");
     dir.write("t.conll", SMALL);
