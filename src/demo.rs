@@ -16,6 +16,11 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 use crate::atomic::AtomicDir;
+use crate::experiment::{
+    self,
+    config::{Clusters, Data, Experiment, FeatureSet, Training},
+    report::{self, Comparison},
+};
 
 /// The file in a demo directory that marks it as one, so that `demo`
 /// may replace it without `--force`.
@@ -35,26 +40,67 @@ pub struct DemoReport {
     pub ami_bits: f64,
     /// A few words with their path and nearest neighbours.
     pub neighbours: Vec<(String, String, Vec<String>)>,
+    /// Labeled sentences: train, dev, test.
+    pub labeled: [usize; 3],
+    /// The comparisons of the ablation (baseline first).
+    pub comparisons: Vec<Comparison>,
+    /// The experiment that was run (its paths pointed into the
+    /// temporary directory that became the output).
+    pub experiment: Experiment,
+    /// The summary written to `summary.md`.
+    pub summary: String,
 }
 
 /// Settings of a demo run.
 pub struct DemoParams {
     /// Sentences of raw text to generate (default 4,000).
     pub sentences: usize,
-    /// Classes to learn (default 16).
+    /// Classes to learn (default 24).
     pub classes: usize,
     /// The seed of the generated text (default 1).
     pub seed: u64,
+    /// Labeled training sentences (default 400; dev and test get 200).
+    pub labeled: usize,
+    /// Training sizes of the learning curve below the whole set
+    /// (default 50, 100, 200).
+    pub sizes: Vec<usize>,
+    /// Seeds of the ablation (default 1, 2, 3).
+    pub seeds: Vec<u64>,
+    /// Epochs per run (default 5).
+    pub epochs: usize,
+    /// Rounds of the randomization test (default 2,000).
+    pub rounds: usize,
+    /// Use the tag dictionary (default false: with so few names, the
+    /// dictionary pins the frequent ones and their features stop
+    /// learning, which hides what clusters do for the rare ones).
+    pub prune: bool,
 }
 
 impl Default for DemoParams {
     fn default() -> Self {
-        DemoParams { sentences: 4_000, classes: 16, seed: 1 }
+        DemoParams {
+            sentences: 4_000,
+            classes: 24,
+            seed: 1,
+            labeled: 400,
+            sizes: vec![50, 100, 200],
+            seeds: vec![1, 2, 3],
+            epochs: 5,
+            rounds: 2_000,
+            prune: false,
+        }
     }
 }
 
-/// Generates the demo text, clusters it and writes everything into
-/// `out` (`raw.txt` and the cluster directory `clusters/`), atomically.
+/// The share of each list of names the labeled training set uses: the
+/// other names occur only in the raw text and in the test set, which is
+/// where clusters can help.
+const KNOWN_NAMES: f64 = 0.5;
+
+/// Generates the demo text, clusters it, runs the ablation with and
+/// without cluster features and writes everything into `out`
+/// (`raw.txt`, the labeled files, the feature configs, the cluster
+/// directory `clusters/` and the files of `ablate`), atomically.
 pub fn run(
     out: &Path,
     force: bool,
@@ -62,16 +108,17 @@ pub fn run(
 ) -> Result<DemoReport> {
     let replace = force || out.join(MARKER).is_file();
     let dir = AtomicDir::create(out, replace)?;
+    let root = dir.path();
     let text = corpus(params.sentences, params.seed);
-    std::fs::write(dir.path().join("raw.txt"), &text)?;
+    std::fs::write(root.join("raw.txt"), &text)?;
     std::fs::write(
-        dir.path().join(MARKER),
+        root.join(MARKER),
         "Written by `lexiclade demo`; `demo` replaces this directory.\n",
     )?;
     let counts = Counts::from_text(&text, Default::default(), 1);
     let cluster_params = ClusterParams { classes: params.classes };
     let hierarchy = cluster(&counts, &cluster_params, &mut |_| {})?;
-    let clusters = dir.path().join("clusters");
+    let clusters = root.join("clusters");
     std::fs::create_dir(&clusters)?;
     ClusterOutput { counts: &counts, hierarchy: &hierarchy }
         .write_dir(&clusters, crate::VERSION)?;
@@ -89,6 +136,77 @@ pub fn run(
                 Some((word.to_string(), table.entries[k].path.clone(), near))
             })
             .collect();
+
+    let seed = params.seed.wrapping_mul(1000);
+    let files = [
+        ("train.conll", labeled(params.labeled, seed + 1, KNOWN_NAMES)),
+        ("dev.conll", labeled(params.labeled / 2, seed + 2, 1.0)),
+        ("test.conll", labeled(params.labeled / 2, seed + 3, 1.0)),
+    ];
+    for (name, body) in &files {
+        std::fs::write(root.join(name), body)?;
+    }
+    std::fs::write(root.join("ner.toml"), NER_CONFIG)?;
+    std::fs::write(root.join("ner-no-clusters.toml"), NER_BASELINE)?;
+    let experiment = Experiment {
+        data: Data {
+            train: root.join("train.conll"),
+            dev: root.join("dev.conll"),
+            test: root.join("test.conll"),
+            scheme: Some("iob2".into()),
+            token_column: 1,
+            label_column: -1,
+        },
+        clusters: Some(Clusters {
+            dir: Some(clusters.clone()),
+            raw: Vec::new(),
+            classes: params.classes,
+            min_count: 1,
+            tokenize: false,
+            lowercase: false,
+        }),
+        features: vec![
+            FeatureSet {
+                name: "no clusters".into(),
+                config: root.join("ner-no-clusters.toml"),
+                prefixes: None,
+                whole_path: None,
+            },
+            FeatureSet {
+                name: "clusters".into(),
+                config: root.join("ner.toml"),
+                prefixes: None,
+                whole_path: None,
+            },
+        ],
+        training: Training {
+            sizes: params.sizes.clone(),
+            all: true,
+            seeds: params.seeds.clone(),
+            epochs: params.epochs,
+            rounds: params.rounds,
+            alpha: 0.05,
+            baseline: None,
+            prune: params.prune,
+        },
+    };
+    experiment.check()?;
+    let data = experiment::run::prepare(&experiment, &mut |_| {})?;
+    let runs = experiment::run::run(&experiment, &data, true, &|_| {});
+    if let Some(bad) = runs.iter().find_map(|r| r.error.as_deref()) {
+        anyhow::bail!("a demo run failed: {bad}");
+    }
+    let comparisons = report::compare(&experiment, data.scheme, &runs);
+    report::write_runs(&experiment, &runs, &root.join("runs.csv"))?;
+    report::write_savings(
+        &experiment,
+        &comparisons,
+        &root.join("savings.csv"),
+    )?;
+    let summary =
+        report::summary(&experiment, data.scheme, &runs, &comparisons);
+    std::fs::write(root.join("summary.md"), &summary)?;
+    report::draw(&experiment, data.scheme, &comparisons, root)?;
     dir.commit()?;
     Ok(DemoReport {
         sentences: counts.sentences,
@@ -97,8 +215,16 @@ pub fn run(
         classes: hierarchy.classes,
         ami_bits: hierarchy.ami_bits,
         neighbours,
+        labeled: [data.train.len(), data.dev.len(), data.test.len()],
+        comparisons,
+        experiment,
+        summary,
     })
 }
+
+/// The shipped NER feature configs, copied into the demo directory.
+const NER_CONFIG: &str = include_str!("../configs/ner.toml");
+const NER_BASELINE: &str = include_str!("../configs/ner-no-clusters.toml");
 
 /// The barges of the line.
 pub const VESSELS: &[&str] = &[
@@ -210,17 +336,26 @@ pub fn corpus(sentences: usize, seed: u64) -> String {
 /// `sentences` labeled demo sentences for `seed` as a column file:
 /// token, tab, IOB2 label, a blank line after each sentence. Barges are
 /// `VESSEL`, places `PLACE`, skippers and keepers `PERSON`; everything
-/// else is `O`.
-pub fn labeled(sentences: usize, seed: u64) -> String {
+/// else is `O`. Only the first `known` share of each list of names is
+/// used (1.0 for all), so that a labeled set can leave names out that
+/// the raw text has.
+pub fn labeled(sentences: usize, seed: u64, known: f64) -> String {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let part = |words: &'static [&'static str]| {
+        let n = ((words.len() as f64 * known).ceil() as usize)
+            .clamp(1, words.len());
+        &words[..n]
+    };
+    let (vessels, places, people) =
+        (part(VESSELS), part(PLACES), part(PEOPLE));
     let mut out = String::new();
     for _ in 0..sentences {
         let template = TEMPLATES[rng.random_range(0..TEMPLATES.len())];
         for slot in template.split(' ') {
             let (words, kind) = match slot {
-                "V" => (skewed(&mut rng, VESSELS), "VESSEL"),
-                "P" => (skewed(&mut rng, PLACES), "PLACE"),
-                "S" => (skewed(&mut rng, PEOPLE), "PERSON"),
+                "V" => (skewed(&mut rng, vessels), "VESSEL"),
+                "P" => (skewed(&mut rng, places), "PLACE"),
+                "S" => (skewed(&mut rng, people), "PERSON"),
                 "C" => (skewed(&mut rng, CARGO), ""),
                 "D" => (skewed(&mut rng, DAYS), ""),
                 "N" => (skewed(&mut rng, NUMBERS), ""),

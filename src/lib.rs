@@ -9,6 +9,7 @@ pub mod atomic;
 pub mod bench;
 pub mod demo;
 pub mod dendrogram;
+pub mod experiment;
 pub mod progress;
 pub mod synth;
 

@@ -24,6 +24,7 @@ enum Command {
     Train(cmd::train::Args),
     Tag(cmd::tag::Args),
     Eval(cmd::eval::Args),
+    Ablate(cmd::ablate::Args),
     Demo(cmd::demo::Args),
     Bench(cmd::bench::Args),
 }
@@ -38,6 +39,7 @@ fn main() -> ExitCode {
         Command::Bench(args) => cmd::bench::run(args),
         Command::Eval(args) => cmd::eval::run(args),
         Command::Train(args) => cmd::train::run(args),
+        Command::Ablate(args) => cmd::ablate::run(args),
         Command::Tag(args) => cmd::tag::run(args),
     };
     match result {

@@ -5,9 +5,9 @@ use crate::util::{lexiclade, Dir};
 
 fn setup() -> Dir {
     let dir = Dir::new();
-    dir.write("train.conll", lexiclade::demo::labeled(300, 1));
-    dir.write("dev.conll", lexiclade::demo::labeled(100, 2));
-    dir.write("test.conll", lexiclade::demo::labeled(100, 3));
+    dir.write("train.conll", lexiclade::demo::labeled(300, 1, 1.0));
+    dir.write("dev.conll", lexiclade::demo::labeled(100, 2, 1.0));
+    dir.write("test.conll", lexiclade::demo::labeled(100, 3, 1.0));
     dir
 }
 

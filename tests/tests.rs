@@ -2,6 +2,7 @@
 
 mod util;
 
+mod ablate;
 mod cluster;
 mod eval;
 mod featurize;

@@ -90,6 +90,24 @@ impl ClusterOutput<'_> {
         }
     }
 
+    /// The result as a [`ClusterTable`], as if written and read back.
+    pub fn table(&self, version: &str) -> ClusterTable {
+        let h = self.hierarchy;
+        let entries = self
+            .counts
+            .words
+            .iter()
+            .enumerate()
+            .map(|(rank, word)| WordEntry {
+                word: word.clone(),
+                path: h.path_of(rank).to_string(),
+                class: h.class_of[rank],
+                count: self.counts.counts[rank],
+            })
+            .collect();
+        ClusterTable { summary: self.summary(version), entries }
+    }
+
     /// Writes `clusters.tsv`.
     pub fn write_clusters(&self, out: &mut dyn Write) -> std::io::Result<()> {
         writeln!(out, "{CLUSTERS_HEADER}")?;

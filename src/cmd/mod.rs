@@ -1,6 +1,7 @@
 //! The subcommands, one file each: a private `Args` type parsed by clap
 //! and a `run` function that does the work through the libraries.
 
+pub mod ablate;
 pub mod bench;
 pub mod cluster;
 pub mod demo;

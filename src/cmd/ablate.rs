@@ -1,0 +1,98 @@
+//! `lexiclade ablate`: compare feature sets over training sizes and seeds.
+
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+use anyhow::Result;
+use lexiclade::{
+    atomic::AtomicDir,
+    experiment::{config::Experiment, report, run},
+    progress::Bars,
+};
+
+/// Measure what cluster features add: train and score every combination
+/// of feature set, training size and seed from an experiment config, in
+/// parallel, and write the results.
+///
+/// DIR gets runs.csv (one row per run), summary.md (mean ± sd per
+/// feature set and size, the gain over the baseline, paired
+/// approximate-randomization p-values with Holm's correction, the label
+/// saving), savings.csv, learning-curve.svg and prefixes.svg. It is
+/// written under a temporary name and renamed at the end. A failed run is
+/// reported and recorded, the others go on, and the exit code is then 1.
+#[derive(clap::Args)]
+pub struct Args {
+    /// The experiment config (TOML; see configs/ablate-prefixes.toml and
+    /// configs/learning-curve.toml).
+    #[arg(long, value_name = "C")]
+    config: PathBuf,
+    /// The output directory.
+    #[arg(long, value_name = "DIR")]
+    out: PathBuf,
+    /// Replace DIR if it exists and is not empty.
+    #[arg(long)]
+    force: bool,
+    /// Worker threads. Default: the available cores, at most 8. Results
+    /// other than timings are the same for any number.
+    #[arg(long, value_name = "N")]
+    threads: Option<usize>,
+    /// No progress bar and no messages, only errors.
+    #[arg(long, short)]
+    quiet: bool,
+}
+
+/// Runs the command.
+pub fn run(args: Args) -> Result<()> {
+    let exp = Experiment::read(&args.config)?;
+    let out = AtomicDir::create(&args.out, args.force)?;
+    let threads = args.threads.unwrap_or_else(super::default_threads);
+    let quiet = args.quiet;
+    let data = run::prepare(&exp, &mut |msg| {
+        if !quiet {
+            eprintln!("lexiclade: {msg}");
+        }
+    })?;
+    let total = run::combinations(&exp, data.train.len()).len();
+    let bars = Bars::new(args.quiet);
+    let bar = bars.steps("runs", total as u64, "runs");
+    let failed = AtomicUsize::new(0);
+    let runs = super::with_threads(threads, || {
+        run::run(&exp, &data, threads > 1, &|r| {
+            bar.inc(1);
+            if let Some(e) = &r.error {
+                failed.fetch_add(1, Ordering::Relaxed);
+                bar.suspend(|| {
+                    eprintln!(
+                        "lexiclade: run {} / {} sentences / seed {} failed: {e}",
+                        exp.features[r.features].name, r.train_sentences, r.seed
+                    )
+                });
+            }
+        })
+    })?;
+    bar.finish_and_clear();
+    let comparisons = report::compare(&exp, data.scheme, &runs);
+    report::write_runs(&exp, &runs, &out.path().join("runs.csv"))?;
+    report::write_savings(
+        &exp,
+        &comparisons,
+        &out.path().join("savings.csv"),
+    )?;
+    let text = report::summary(&exp, data.scheme, &runs, &comparisons);
+    std::fs::write(out.path().join("summary.md"), &text)?;
+    report::draw(&exp, data.scheme, &comparisons, out.path())?;
+    let target = out.target().to_path_buf();
+    out.commit()?;
+    if !args.quiet {
+        print!("{text}");
+        eprintln!("lexiclade: wrote {}", target.display());
+    }
+    let failed = failed.load(Ordering::Relaxed);
+    if failed > 0 {
+        return Err(super::Internal(format!(
+            "{failed} of {total} runs failed; see summary.md"
+        ))
+        .into());
+    }
+    Ok(())
+}

@@ -1,0 +1,158 @@
+//! `lexiclade ablate` and the whole-pipeline `demo`.
+
+use crate::util::{lexiclade, Dir};
+
+/// A small experiment on the demo data: two feature sets, two sizes plus
+/// all, two seeds.
+fn setup() -> Dir {
+    let dir = Dir::new();
+    dir.write("raw.txt", lexiclade::demo::corpus(2_000, 1));
+    dir.write("train.conll", lexiclade::demo::labeled(200, 11, 0.5));
+    dir.write("dev.conll", lexiclade::demo::labeled(60, 12, 1.0));
+    dir.write("test.conll", lexiclade::demo::labeled(60, 13, 1.0));
+    let configs = crate::util::repo().join("configs");
+    for name in ["ner.toml", "ner-no-clusters.toml"] {
+        std::fs::copy(configs.join(name), dir.join(name)).unwrap();
+    }
+    dir.write(
+        "exp.toml",
+        r#"
+        [data]
+        train = "train.conll"
+        dev = "dev.conll"
+        test = "test.conll"
+        [clusters]
+        raw = ["raw.txt"]
+        classes = 16
+        [[features]]
+        name = "no clusters"
+        config = "ner-no-clusters.toml"
+        [[features]]
+        name = "prefixes 2, 4"
+        config = "ner.toml"
+        prefixes = [2, 4]
+        [training]
+        sizes = [25, 50]
+        seeds = [1, 2]
+        epochs = 3
+        rounds = 500
+        prune = false
+        "#,
+    );
+    dir
+}
+
+fn rows(dir: &Dir, out: &str) -> Vec<Vec<String>> {
+    let text = dir.read(&format!("{out}/runs.csv"));
+    let mut reader = csv::Reader::from_reader(text.as_bytes());
+    let header: Vec<String> =
+        reader.headers().unwrap().iter().map(String::from).collect();
+    assert_eq!(
+        header,
+        [
+            "features",
+            "train_sentences",
+            "seed",
+            "status",
+            "dev_score",
+            "test_score",
+            "test_accuracy",
+            "test_oov_accuracy",
+            "path_coverage",
+            "best_epoch",
+            "train_seconds"
+        ]
+    );
+    reader
+        .records()
+        .map(|r| r.unwrap().iter().map(String::from).collect())
+        .collect()
+}
+
+#[test]
+fn serial_and_parallel_runs_agree_and_every_file_is_written() {
+    let dir = setup();
+    for (out, threads) in [("serial", "1"), ("parallel", "2")] {
+        lexiclade(
+            dir.path(),
+            &[
+                "ablate",
+                "--config",
+                "exp.toml",
+                "--out",
+                out,
+                "--threads",
+                threads,
+                "-q",
+            ],
+        )
+        .ok();
+    }
+    let (serial, parallel) = (rows(&dir, "serial"), rows(&dir, "parallel"));
+    // 2 feature sets × (2 sizes + all) × 2 seeds.
+    assert_eq!(serial.len(), 12);
+    assert!(serial.iter().all(|r| r[3] == "ok"), "{serial:?}");
+    for (a, b) in serial.iter().zip(&parallel) {
+        assert_eq!(a[..10], b[..10], "runs differ beyond train_seconds");
+    }
+    for file in
+        ["summary.md", "savings.csv", "learning-curve.svg", "prefixes.svg"]
+    {
+        assert!(dir.join("serial").join(file).is_file(), "{file} missing");
+    }
+    let summary = dir.read("serial/summary.md");
+    assert!(summary.contains("| prefixes 2, 4 | 50 |"), "{summary}");
+    assert!(summary.contains("## Label saving"));
+    // Paths cover the test tokens in the cluster runs only.
+    assert!(serial
+        .iter()
+        .all(|r| (r[0] == "no clusters") == (r[8] == "0.000000")));
+}
+
+#[test]
+fn bad_experiment_configs_are_refused() {
+    let dir = setup();
+    let text =
+        dir.read("exp.toml").replace("epochs = 3", "epochs = 3\nepoch = 4");
+    dir.write("typo.toml", text);
+    lexiclade(dir.path(), &["ablate", "--config", "typo.toml", "--out", "o"])
+        .user_error("unknown field `epoch`");
+    assert!(!dir.join("o").exists());
+}
+
+#[test]
+fn demo_runs_end_to_end_and_clusters_beat_the_baseline() {
+    let dir = Dir::new();
+    let params = lexiclade::demo::DemoParams {
+        sentences: 2_000,
+        labeled: 200,
+        sizes: vec![50],
+        seeds: vec![1, 2],
+        epochs: 3,
+        rounds: 500,
+        ..Default::default()
+    };
+    let report =
+        lexiclade::demo::run(&dir.join("demo"), false, &params).unwrap();
+    let largest = report.comparisons.iter().map(|c| c.size).max().unwrap();
+    let at = |f: usize| {
+        report
+            .comparisons
+            .iter()
+            .find(|c| c.features == f && c.size == largest)
+            .unwrap()
+            .mean
+    };
+    assert!(at(1) > at(0), "clusters {} vs baseline {}", at(1), at(0));
+    for file in [
+        "runs.csv",
+        "summary.md",
+        "savings.csv",
+        "learning-curve.svg",
+        "clusters/clusters.tsv",
+    ] {
+        assert!(dir.join("demo").join(file).is_file(), "{file} missing");
+    }
+    // Running it again replaces the earlier demo without --force.
+    lexiclade::demo::run(&dir.join("demo"), false, &params).unwrap();
+}
