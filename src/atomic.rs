@@ -15,6 +15,7 @@ use anyhow::{bail, Context, Result};
 pub struct AtomicDir {
     target: PathBuf,
     temp: tempfile::TempDir,
+    _pending: crate::interrupt::Registration,
 }
 
 impl AtomicDir {
@@ -55,7 +56,8 @@ impl AtomicDir {
             .with_context(|| {
                 format!("{}: cannot create a directory here", parent.display())
             })?;
-        Ok(AtomicDir { target: target.to_path_buf(), temp })
+        let _pending = crate::interrupt::register(temp.path());
+        Ok(AtomicDir { target: target.to_path_buf(), temp, _pending })
     }
 
     /// Where to write the files.
@@ -108,6 +110,7 @@ impl AtomicDir {
 pub struct AtomicFile {
     target: PathBuf,
     writer: std::io::BufWriter<tempfile::NamedTempFile>,
+    _pending: crate::interrupt::Registration,
 }
 
 impl AtomicFile {
@@ -135,9 +138,11 @@ impl AtomicFile {
             .with_context(|| {
                 format!("{}: cannot create a file here", parent.display())
             })?;
+        let _pending = crate::interrupt::register(temp.path());
         Ok(AtomicFile {
             target: target.to_path_buf(),
             writer: std::io::BufWriter::new(temp),
+            _pending,
         })
     }
 

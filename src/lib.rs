@@ -10,6 +10,7 @@ pub mod bench;
 pub mod demo;
 pub mod dendrogram;
 pub mod experiment;
+pub mod interrupt;
 pub mod progress;
 pub mod synth;
 

@@ -31,6 +31,7 @@ enum Command {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    lexiclade::interrupt::install();
     let result = match cli.command {
         Command::Cluster(args) => cmd::cluster::run(args),
         Command::Show(args) => cmd::show::run(args),

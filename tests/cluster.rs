@@ -294,3 +294,59 @@ fn help_explains_every_option() {
         assert!(run.stdout.contains(flag), "{flag} missing from --help");
     }
 }
+
+/// An interrupt (SIGINT) leaves the previous output as it was, no
+/// temporary directory behind, and exit code 130.
+#[test]
+#[cfg(unix)]
+fn interrupt_leaves_previous_output_and_no_temporary_files() {
+    let dir = Dir::new();
+    dir.write("t.txt", TEXT);
+    lexiclade(
+        dir.path(),
+        &["cluster", "t.txt", "--out", "o", "--classes", "3", "-q"],
+    )
+    .ok();
+    let before = dir.read("o/clusters.tsv");
+    // A corpus big enough that clustering takes a few seconds.
+    let mut big = std::fs::File::create(dir.join("big.txt")).unwrap();
+    lexiclade::synth::ZipfCorpus::new(20_000, 3_000_000, 1)
+        .write_to(&mut big)
+        .unwrap();
+    drop(big);
+    let child = std::process::Command::new(env!("CARGO_BIN_EXE_lexiclade"))
+        .args([
+            "cluster",
+            "big.txt",
+            "--out",
+            "o",
+            "--classes",
+            "500",
+            "--force",
+            "-q",
+        ])
+        .current_dir(dir.path())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(1500));
+    let killed = std::process::Command::new("kill")
+        .args(["-INT", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(killed.success());
+    let out = child.wait_with_output().unwrap();
+    assert_eq!(
+        out.status.code(),
+        Some(130),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert_eq!(dir.read("o/clusters.tsv"), before);
+    let mut names: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().into_string().unwrap())
+        .collect();
+    names.sort();
+    assert_eq!(names, ["big.txt", "o", "t.txt"]);
+}

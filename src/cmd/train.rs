@@ -4,7 +4,7 @@
 use std::path::PathBuf;
 
 use anyhow::{bail, Context, Result};
-use lexiclade::{progress::Bars, VERSION};
+use lexiclade::{atomic::AtomicFile, progress::Bars, VERSION};
 use lexiclade_features::{FeatureConfig, Paths};
 use lexiclade_tagger::{
     columns::{read_columns, Column, ColumnSpec},
@@ -160,7 +160,11 @@ pub fn run(args: Args) -> Result<()> {
     )?;
     bar.finish_and_clear();
     model.version = VERSION.to_string();
-    model.save(&args.model)?;
+    // Through AtomicFile rather than the library's own atomic save, so
+    // that an interrupt removes the partial file too.
+    let mut file = AtomicFile::create(&args.model, true)?;
+    file.writer().write_all(&lexiclade_tagger::model::encode(&model))?;
+    file.commit()?;
     if !args.quiet {
         eprintln!(
             "lexiclade: {} labels ({}), {} features, best epoch {}; wrote {}",
