@@ -212,3 +212,46 @@ mod tests {
         assert_eq!(names, vec!["a.txt", "b.txt", "c.gz"]);
     }
 }
+
+#[cfg(test)]
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        /// Any bytes: lines come back, or an invalid-UTF-8 error names a
+        /// line; never a panic. Valid text reads back unchanged, line by
+        /// line, but for a BOM and the `\r` before each `\n`.
+        #[test]
+        fn any_bytes_read_or_fail_cleanly(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
+            let mut reader = LineReader::new(&bytes[..], "p");
+            let mut lines = Vec::new();
+            let result = loop {
+                match reader.next_line() {
+                    Ok(Some(line)) => lines.push(line.to_string()),
+                    Ok(None) => break Ok(()),
+                    Err(e) => break Err(e),
+                }
+            };
+            match result {
+                Ok(()) => {
+                    let text = String::from_utf8(bytes.clone()).unwrap();
+                    let text = text.strip_prefix('\u{feff}').unwrap_or(&text);
+                    let want: Vec<String> = text
+                        .split_inclusive('\n')
+                        .map(|l| {
+                            let l = l.strip_suffix('\n').unwrap_or(l);
+                            l.strip_suffix('\r').unwrap_or(l).to_string()
+                        })
+                        .collect();
+                    prop_assert_eq!(lines, want);
+                }
+                Err(Error::InvalidUtf8 { line, .. }) => {
+                    prop_assert!(line >= 1);
+                    prop_assert!(String::from_utf8(bytes).is_err());
+                }
+                Err(other) => prop_assert!(false, "unexpected error {}", other),
+            }
+        }
+    }
+}

@@ -431,3 +431,46 @@ mod tests {
         assert!(std::error::Error::source(&err).is_some());
     }
 }
+
+#[cfg(test)]
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        /// Any bytes parse as a column file or give an error naming the
+        /// file; never a panic, never an empty sentence.
+        #[test]
+        fn any_bytes_parse_or_fail_cleanly(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
+            match read_columns_from(&bytes[..], Path::new("p")) {
+                Ok(file) => {
+                    prop_assert!(file.sentences.iter().all(|s| !s.is_empty()));
+                    prop_assert!(file.tokens() > 0);
+                }
+                Err(e) => prop_assert!(e.to_string().starts_with("p")),
+            }
+        }
+
+        /// Well-formed files of random tokens round-trip.
+        #[test]
+        fn generated_files_round_trip(
+            sentences in proptest::collection::vec(
+                proptest::collection::vec(("[a-z]{1,6}", "[A-Z]{1,3}"), 1..6), 1..6)
+        ) {
+            let mut text = String::new();
+            for s in &sentences {
+                for (w, l) in s {
+                    text.push_str(&format!("{w} {l}\n"));
+                }
+                text.push('\n');
+            }
+            let file = read_columns_from(text.as_bytes(), Path::new("g")).unwrap();
+            prop_assert_eq!(file.sentences.len(), sentences.len());
+            for (got, want) in file.sentences.iter().zip(&sentences) {
+                let tokens = got.tokens(&ColumnSpec::default()).unwrap();
+                let words: Vec<&str> = want.iter().map(|(w, _)| w.as_str()).collect();
+                prop_assert_eq!(tokens, words);
+            }
+        }
+    }
+}

@@ -151,3 +151,37 @@ mod tests {
         assert!(msg(&longer).contains("trailing"));
     }
 }
+
+#[cfg(test)]
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    #[derive(serde::Serialize, serde::Deserialize, PartialEq, Debug)]
+    struct Toy {
+        names: Vec<String>,
+        weights: Vec<f32>,
+    }
+
+    proptest! {
+        /// Any bytes: a clear error, never a panic.
+        #[test]
+        fn any_bytes_are_refused_cleanly(bytes in proptest::collection::vec(any::<u8>(), 0..300)) {
+            let _ = decode::<Toy>(&bytes, Path::new("m"));
+        }
+
+        /// A valid file with any one byte changed or cut short is refused.
+        #[test]
+        fn damaged_files_are_refused(at in 0usize..1000, flip in 1u8..=255, cut in any::<bool>()) {
+            let toy = Toy { names: vec!["a".into(), "bc".into()], weights: vec![0.5, -1.0] };
+            let mut bytes = encode(&toy);
+            let at = at % bytes.len();
+            if cut {
+                bytes.truncate(at);
+            } else {
+                bytes[at] ^= flip;
+            }
+            prop_assert!(decode::<Toy>(&bytes, Path::new("m")).is_err());
+        }
+    }
+}
