@@ -19,6 +19,7 @@ struct Cli {
 #[derive(Subcommand)]
 enum Command {
     Cluster(cmd::cluster::Args),
+    Count(cmd::count::Args),
     Show(cmd::show::Args),
     Featurize(cmd::featurize::Args),
     Train(cmd::train::Args),
@@ -34,6 +35,7 @@ fn main() -> ExitCode {
     lexiclade::interrupt::install();
     let result = match cli.command {
         Command::Cluster(args) => cmd::cluster::run(args),
+        Command::Count(args) => cmd::count::run(args),
         Command::Show(args) => cmd::show::run(args),
         Command::Featurize(args) => cmd::featurize::run(args),
         Command::Demo(args) => cmd::demo::run(args),

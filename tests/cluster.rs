@@ -350,3 +350,57 @@ fn interrupt_leaves_previous_output_and_no_temporary_files() {
     names.sort();
     assert_eq!(names, ["big.txt", "o", "t.txt"]);
 }
+
+/// Counting shards and clustering the summed counts gives the same files
+/// as clustering the text (summary, classes and merges byte for byte).
+#[test]
+fn clustering_counts_equals_clustering_text() {
+    let dir = Dir::new();
+    let text = lexiclade::demo::corpus(600, 3);
+    let half = text.len() / 2;
+    let cut = half + text[half..].find('\n').unwrap() + 1;
+    dir.write("all.txt", &text);
+    dir.write("a.txt", &text[..cut]);
+    dir.write("b.txt", &text[cut..]);
+    let args = ["--classes", "12", "--min-count", "2", "-q"];
+    let run = |extra: &[&str]| {
+        let mut all = vec!["cluster"];
+        all.extend(extra);
+        all.extend(args);
+        lexiclade(dir.path(), &all).ok();
+    };
+    run(&["all.txt", "--out", "from-text"]);
+    lexiclade(dir.path(), &["count", "a.txt", "--out", "a.counts", "-q"]).ok();
+    lexiclade(dir.path(), &["count", "b.txt", "--out", "b.counts", "-q"]).ok();
+    run(&["--counts", "a.counts", "b.counts", "--out", "from-counts"]);
+    for file in ["clusters.tsv", "merges.tsv", "summary.json"] {
+        assert!(
+            dir.read(&format!("from-text/{file}"))
+                == dir.read(&format!("from-counts/{file}")),
+            "{file} differs"
+        );
+    }
+    // Files counted with other flags are refused, and so are text flags.
+    lexiclade(
+        dir.path(),
+        &["count", "b.txt", "--out", "low.counts", "--lowercase", "-q"],
+    )
+    .ok();
+    lexiclade(
+        dir.path(),
+        &["cluster", "--counts", "a.counts", "low.counts", "--out", "x"],
+    )
+    .user_error("other flags");
+    let refused = lexiclade(
+        dir.path(),
+        &["cluster", "--counts", "a.counts", "--tokenize", "--out", "x"],
+    );
+    assert_eq!(refused.status, 2);
+    dir.write("bad.counts", "kind\tfirst\tsecond\tcount\nword\tx\t\tmany\n");
+    lexiclade(
+        dir.path(),
+        &["cluster", "--counts", "bad.counts", "--out", "x"],
+    )
+    .user_error("bad.counts:2: the count is not a whole number");
+    assert!(!dir.join("x").exists());
+}

@@ -84,18 +84,43 @@ impl Counter {
         } else {
             token
         };
-        let id = match self.ids.get(token) {
-            Some(&id) => id,
-            None => {
-                let id = self.words.len() as u32;
-                self.ids.insert(token.into(), id);
-                self.words.push(token.into());
-                self.counts.push(0);
-                id
-            }
-        };
+        let id =
+            id_of(&mut self.ids, &mut self.words, &mut self.counts, token);
         self.counts[id as usize] += 1;
         id
+    }
+
+    /// The options tokens were read with.
+    pub fn options(&self) -> TokenOptions {
+        self.options
+    }
+
+    /// Adds `count` occurrences of `word`, taken as it is (already
+    /// tokenised and lowercased as the options say): for counts read
+    /// from a count file.
+    pub fn add_word_count(&mut self, word: &str, count: u64) {
+        let id = id_of(&mut self.ids, &mut self.words, &mut self.counts, word);
+        self.counts[id as usize] += count;
+    }
+
+    /// Adds `count` occurrences of the bigram `(left, right)`; the words
+    /// must be known, or they get a count of 0.
+    pub fn add_bigram_count(&mut self, left: &str, right: &str, count: u64) {
+        let l = id_of(&mut self.ids, &mut self.words, &mut self.counts, left);
+        let r = id_of(&mut self.ids, &mut self.words, &mut self.counts, right);
+        let key = (u64::from(l) << 32) | u64::from(r);
+        *self.bigrams.entry(key).or_insert(0) += count;
+    }
+
+    /// Adds token and sentence totals.
+    pub fn add_totals(&mut self, tokens: u64, sentences: u64) {
+        self.tokens += tokens;
+        self.sentences += sentences;
+    }
+
+    /// The tokens counted so far.
+    pub fn tokens(&self) -> u64 {
+        self.tokens
     }
 
     /// Reads every line of `source`; `progress` is called now and then
@@ -165,6 +190,24 @@ impl Counter {
             min_count,
             options: self.options,
             bytes: self.bytes,
+        }
+    }
+}
+
+fn id_of(
+    ids: &mut FxHashMap<Box<str>, u32>,
+    words: &mut Vec<Box<str>>,
+    counts: &mut Vec<u64>,
+    token: &str,
+) -> u32 {
+    match ids.get(token) {
+        Some(&id) => id,
+        None => {
+            let id = words.len() as u32;
+            ids.insert(token.into(), id);
+            words.push(token.into());
+            counts.push(0);
+            id
         }
     }
 }

@@ -39,6 +39,7 @@
 
 pub mod algorithm;
 pub mod ami;
+pub mod count_file;
 pub mod counts;
 pub mod error;
 mod kernels;

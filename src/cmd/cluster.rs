@@ -22,8 +22,14 @@ pub struct Args {
     /// Text files or directories (every regular file inside, in name
     /// order); `-` reads standard input; `.gz` files are decompressed.
     /// One sentence per line, tokens separated by spaces and tabs.
-    #[arg(required = true, value_name = "INPUT")]
+    #[arg(required_unless_present = "counts", value_name = "INPUT")]
     inputs: Vec<PathBuf>,
+    /// Cluster from count files written by `lexiclade count` (or any
+    /// engine writing the plain form) instead of text; several are
+    /// summed. Their tokenising and lowercasing flags must agree and are
+    /// taken from the files, so --tokenize and --lowercase are refused.
+    #[arg(long, value_name = "COUNTS", num_args = 1.., conflicts_with_all = ["inputs", "tokenize", "lowercase"])]
+    counts: Vec<PathBuf>,
     /// The output directory.
     #[arg(long, value_name = "DIR")]
     out: PathBuf,
@@ -67,11 +73,13 @@ pub fn run(args: Args) -> Result<()> {
     if args.min_count == 0 {
         bail!("--min-count must be at least 1");
     }
+    let from_counts = !args.counts.is_empty();
     let sources = expand_inputs(&args.inputs)?;
-    if sources.is_empty() {
+    if sources.is_empty() && !from_counts {
         bail!("no input files found in {}", display_list(&args.inputs));
     }
     lexiclade::atomic::refuse_overlap(&args.inputs, &args.out)?;
+    lexiclade::atomic::refuse_overlap(&args.counts, &args.out)?;
     let out = AtomicDir::create(&args.out, args.force)?;
     let bars = Bars::new(args.quiet);
     let started = Instant::now();
@@ -79,16 +87,25 @@ pub fn run(args: Args) -> Result<()> {
     let options =
         TokenOptions { tokenize: args.tokenize, lowercase: args.lowercase };
     let bar = bars.bytes("counting");
-    let counts =
+    let counts = if from_counts {
+        let paths: Vec<&std::path::Path> =
+            args.counts.iter().map(PathBuf::as_path).collect();
+        lexiclade_cluster::count_file::read_all(&paths)?.finish(args.min_count)
+    } else {
         Counts::from_sources(&sources, options, args.min_count, &mut |b| {
             bar.set_position(b)
-        })?;
+        })?
+    };
     bar.finish_and_clear();
     let counted = started.elapsed().as_secs_f64();
     if counts.len() < 2 {
         bail!(
             "{}: clustering needs at least 2 distinct words, found {}",
-            display_list(&args.inputs),
+            display_list(if from_counts {
+                &args.counts
+            } else {
+                &args.inputs
+            }),
             counts.len()
         );
     }

@@ -4,6 +4,7 @@
 pub mod ablate;
 pub mod bench;
 pub mod cluster;
+pub mod count;
 pub mod demo;
 pub mod eval;
 pub mod featurize;

@@ -1,0 +1,279 @@
+//! Count files: word and within-line bigram counts as an interchange, so
+//! that a corpus can be counted where it lives (in shards, by any engine)
+//! and only the counts travel to the machine that clusters them.
+//!
+//! # Format
+//!
+//! Plain, unquoted, tab-separated text, UTF-8, one record per line, with
+//! the header line `kind	first	second	count`. Each record has exactly four
+//! fields:
+//!
+//! | `kind` | `first` | `second` | `count` |
+//! |---|---|---|---|
+//! | `meta` | `format_version` | `1` | empty |
+//! | `meta` | `tokenize` | `true` or `false` | empty |
+//! | `meta` | `lowercase` | `true` or `false` | empty |
+//! | `total` | `tokens` or `sentences` | empty | the total |
+//! | `word` | the word | empty | its count |
+//! | `bigram` | the left word | the right word | its count |
+//!
+//! `lexiclade count` writes the three `meta` records first, then the
+//! totals, the words (most frequent first) and the bigrams, unfiltered.
+//! Every record is optional in a file written by another engine (the
+//! plain form): without `meta` records a file counts as format 1 with
+//! `tokenize` and `lowercase` false; missing totals count as 0; a bigram
+//! whose words have no `word` record gives those words a count of 0, so
+//! they are dropped by any minimum count. Several records for one word or
+//! bigram add up, and so do several files. Words cannot contain tabs or
+//! line breaks (tokens are split at spaces and tabs, lines at `\n`).
+
+use std::io::{BufRead, BufReader, Write};
+use std::path::Path;
+
+use crate::counts::{Counter, Counts, TokenOptions};
+use crate::error::{Error, Result};
+
+/// The version of the count-file format.
+pub const FORMAT_VERSION: u32 = 1;
+
+/// The header line.
+pub const HEADER: &str = "kind\tfirst\tsecond\tcount";
+
+/// Writes `counts` (which should be unfiltered: minimum count 1) as a
+/// count file.
+pub fn write(counts: &Counts, out: &mut dyn Write) -> std::io::Result<()> {
+    writeln!(out, "{HEADER}")?;
+    writeln!(out, "meta\tformat_version\t{FORMAT_VERSION}\t")?;
+    writeln!(out, "meta\ttokenize\t{}\t", counts.options.tokenize)?;
+    writeln!(out, "meta\tlowercase\t{}\t", counts.options.lowercase)?;
+    writeln!(out, "total\ttokens\t\t{}", counts.tokens)?;
+    writeln!(out, "total\tsentences\t\t{}", counts.sentences)?;
+    for (word, count) in counts.words.iter().zip(&counts.counts) {
+        writeln!(out, "word\t{word}\t\t{count}")?;
+    }
+    for &(l, r, c) in &counts.bigrams {
+        let (l, r) = (&counts.words[l as usize], &counts.words[r as usize]);
+        writeln!(out, "bigram\t{l}\t{r}\t{c}")?;
+    }
+    Ok(())
+}
+
+/// Reads count files and sums them into one counter. Files whose
+/// tokenising or lowercasing flags differ are refused.
+pub fn read_all(paths: &[&Path]) -> Result<Counter> {
+    let mut counter: Option<Counter> = None;
+    let mut first: Option<&Path> = None;
+    for &path in paths {
+        let file =
+            std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+        let options = read_into(path, BufReader::new(file), &mut counter)?;
+        match first {
+            None => first = Some(path),
+            Some(f) => {
+                let had = counter.as_ref().map(Counter::options);
+                if had != Some(options) {
+                    return Err(Error::malformed(
+                        path,
+                        None,
+                        format!(
+                            "counted with other flags than {} ({})",
+                            f.display(),
+                            describe(options)
+                        ),
+                    ));
+                }
+            }
+        }
+    }
+    counter.ok_or_else(|| Error::EmptyInput { what: "no count files".into() })
+}
+
+fn describe(o: TokenOptions) -> String {
+    format!("tokenize {}, lowercase {}", o.tokenize, o.lowercase)
+}
+
+/// Reads one count file into `counter` (created with the file's flags
+/// when `None`); returns the file's flags.
+fn read_into(
+    path: &Path,
+    reader: impl BufRead,
+    counter: &mut Option<Counter>,
+) -> Result<TokenOptions> {
+    let mut options = TokenOptions::default();
+    let mut records = Vec::new();
+    let mut seen_header = false;
+    for (index, line) in reader.split(b'\n').enumerate() {
+        let number = index as u64 + 1;
+        let line = line.map_err(|e| Error::io(path, e))?;
+        let line = line.strip_suffix(b"\r").unwrap_or(&line);
+        let line = std::str::from_utf8(line).map_err(|_| {
+            Error::InvalidUtf8 { path: path.into(), line: number }
+        })?;
+        let line = if number == 1 {
+            line.strip_prefix('\u{feff}').unwrap_or(line)
+        } else {
+            line
+        };
+        if !seen_header {
+            if line != HEADER {
+                return Err(Error::malformed(
+                    path,
+                    Some(number),
+                    format!("expected the header {HEADER:?}"),
+                ));
+            }
+            seen_header = true;
+            continue;
+        }
+        if line.is_empty() {
+            continue;
+        }
+        let bad = |reason: &str| {
+            Error::malformed(path, Some(number), reason.to_string())
+        };
+        let fields: Vec<&str> = line.split('\t').collect();
+        let [kind, first, second, count] = fields[..] else {
+            return Err(bad(
+                "expected 4 tab-separated fields: kind, first, second, count",
+            ));
+        };
+        let number_of = |s: &str| {
+            s.parse::<u64>()
+                .map_err(|_| bad("the count is not a whole number"))
+        };
+        match kind {
+            "meta" => {
+                let flag = |v: &str| match v {
+                    "true" => Ok(true),
+                    "false" => Ok(false),
+                    _ => Err(bad("a flag must be true or false")),
+                };
+                match first {
+                    "format_version" => {
+                        let got: u32 = second
+                            .parse()
+                            .map_err(|_| bad("bad format_version"))?;
+                        if got != FORMAT_VERSION {
+                            return Err(Error::Version {
+                                path: path.into(),
+                                expected: FORMAT_VERSION,
+                                got,
+                            });
+                        }
+                    }
+                    "tokenize" => options.tokenize = flag(second)?,
+                    "lowercase" => options.lowercase = flag(second)?,
+                    _ => return Err(bad("unknown meta record")),
+                }
+            }
+            "total" | "word" | "bigram" => {
+                if first.is_empty() {
+                    return Err(bad("the first field is empty"));
+                }
+                records.push((
+                    kind.as_bytes()[0],
+                    first.to_string(),
+                    second.to_string(),
+                    number_of(count)?,
+                ));
+            }
+            _ => return Err(bad("kind must be meta, total, word or bigram")),
+        }
+    }
+    if !seen_header {
+        return Err(Error::malformed(
+            path,
+            None,
+            "empty file, expected a header",
+        ));
+    }
+    let counter = counter.get_or_insert_with(|| Counter::new(options));
+    if counter.options() != options {
+        // Reported by the caller, which knows the other file's name.
+        return Ok(options);
+    }
+    for (kind, first, second, count) in records {
+        match kind {
+            b't' => match first.as_str() {
+                "tokens" => counter.add_totals(count, 0),
+                "sentences" => counter.add_totals(0, count),
+                _ => {
+                    return Err(Error::malformed(
+                        path,
+                        None,
+                        format!("unknown total {first:?}"),
+                    ))
+                }
+            },
+            b'w' => counter.add_word_count(&first, count),
+            _ => counter.add_bigram_count(&first, &second, count),
+        }
+    }
+    Ok(options)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn round_trip(text: &str, opts: TokenOptions) -> (Counts, Counts) {
+        let counts = Counts::from_text(text, opts, 1);
+        let mut bytes = Vec::new();
+        write(&counts, &mut bytes).unwrap();
+        let mut counter = None;
+        read_into(Path::new("c"), &bytes[..], &mut counter).unwrap();
+        (counts, counter.unwrap().finish(1))
+    }
+
+    #[test]
+    fn write_then_read_gives_the_same_counts() {
+        let (a, mut b) = round_trip(
+            "the cat sat\nthe dog sat\n\na cat\n",
+            TokenOptions::default(),
+        );
+        // Bytes of text read is the one thing a count file cannot know.
+        b.bytes = a.bytes;
+        assert_eq!(a, b);
+        let opts = TokenOptions { tokenize: true, lowercase: true };
+        let (a, b) = round_trip("Hi there, @ann!\nhi", opts);
+        assert_eq!(a.words, b.words);
+        assert_eq!(b.options, opts);
+    }
+
+    #[test]
+    fn the_plain_form_needs_only_the_header() {
+        let text = "kind\tfirst\tsecond\tcount\nword\ta\t\t3\nword\tb\t\t1\nbigram\ta\tb\t1\n\
+                    bigram\ta\ta\t1\nword\ta\t\t1\n";
+        let mut counter = None;
+        read_into(Path::new("p"), text.as_bytes(), &mut counter).unwrap();
+        let c = counter.unwrap().finish(1);
+        assert_eq!(c.words, vec!["a", "b"]);
+        assert_eq!(c.counts, vec![4, 1]);
+        assert_eq!(c.bigrams, vec![(0, 0, 1), (0, 1, 1)]);
+    }
+
+    #[test]
+    fn malformed_files_name_the_line() {
+        let read = |text: &str| {
+            let mut counter = None;
+            read_into(Path::new("f"), text.as_bytes(), &mut counter)
+                .unwrap_err()
+                .to_string()
+        };
+        assert!(read("word\ta\t\t1\n").contains("f:1: expected the header"));
+        assert!(read("kind\tfirst\tsecond\tcount\nword\ta\t1\n")
+            .contains("f:2: expected 4"));
+        assert!(read("kind\tfirst\tsecond\tcount\nword\ta\t\tx\n")
+            .contains("f:2: the count"));
+        assert!(read(
+            "kind\tfirst\tsecond\tcount\nmeta\tformat_version\t2\t\n"
+        )
+        .contains("version 2"));
+        assert!(read("").contains("empty file"));
+        let bad_utf8 = b"kind\tfirst\tsecond\tcount\nword\t\xff\t\t1\n";
+        let mut counter = None;
+        let err = read_into(Path::new("f"), &bad_utf8[..], &mut counter)
+            .unwrap_err();
+        assert_eq!(err.to_string(), "f:2: invalid UTF-8");
+    }
+}

@@ -1,0 +1,67 @@
+//! `lexiclade count`: count words and within-line bigrams into a count
+//! file, for clustering elsewhere with `cluster --counts`.
+
+use std::path::PathBuf;
+
+use anyhow::{bail, Result};
+use lexiclade::{atomic::AtomicFile, progress::Bars};
+use lexiclade_cluster::{count_file, expand_inputs, Counts, TokenOptions};
+
+/// Count words and within-line bigrams of text into a count file.
+///
+/// The file is plain tab-separated text with the header
+/// `kind first second count` (documented in the README): the tokenising
+/// and lowercasing flags, the token and sentence totals, every word and
+/// every bigram, unfiltered. `lexiclade cluster --counts` sums one or
+/// more such files and clusters them exactly as it would the text.
+#[derive(clap::Args)]
+pub struct Args {
+    /// Text files or directories, `-` for standard input, `.gz` allowed,
+    /// read as `cluster` reads them.
+    #[arg(required = true, value_name = "INPUT")]
+    inputs: Vec<PathBuf>,
+    /// The count file to write.
+    #[arg(long, value_name = "COUNTS")]
+    out: PathBuf,
+    /// Split raw text as `cluster --tokenize` does.
+    #[arg(long)]
+    tokenize: bool,
+    /// Lowercase every token.
+    #[arg(long)]
+    lowercase: bool,
+    /// Replace COUNTS if it exists.
+    #[arg(long)]
+    force: bool,
+    /// No progress bar.
+    #[arg(long, short)]
+    quiet: bool,
+}
+
+/// Runs the command.
+pub fn run(args: Args) -> Result<()> {
+    let sources = expand_inputs(&args.inputs)?;
+    if sources.is_empty() {
+        bail!("no input files found");
+    }
+    lexiclade::atomic::refuse_overlap(&args.inputs, &args.out)?;
+    let mut file = AtomicFile::create(&args.out, args.force)?;
+    let bar = Bars::new(args.quiet).bytes("counting");
+    let options =
+        TokenOptions { tokenize: args.tokenize, lowercase: args.lowercase };
+    let counts = Counts::from_sources(&sources, options, 1, &mut |b| {
+        bar.set_position(b)
+    })?;
+    bar.finish_and_clear();
+    count_file::write(&counts, file.writer())?;
+    file.commit()?;
+    if !args.quiet {
+        eprintln!(
+            "lexiclade: {} tokens, {} words, {} bigrams; wrote {}",
+            counts.tokens,
+            counts.len(),
+            counts.bigrams.len(),
+            args.out.display()
+        );
+    }
+    Ok(())
+}
