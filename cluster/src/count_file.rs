@@ -5,7 +5,7 @@
 //! # Format
 //!
 //! Plain, unquoted, tab-separated text, UTF-8, one record per line, with
-//! the header line `kind	first	second	count`. Each record has exactly four
+//! the header line `kind first second count` (tab-separated). Each record has exactly four
 //! fields:
 //!
 //! | `kind` | `first` | `second` | `count` |
