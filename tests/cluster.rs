@@ -251,6 +251,10 @@ fn existing_output_needs_force_and_stays_intact_on_failure() {
     .ok();
     assert!(!dir.join("o/keep.txt").exists());
     assert!(dir.join("o/clusters.tsv").exists());
+    // An output that is a file is refused, even with --force.
+    dir.write("file", "x");
+    lexiclade(dir.path(), &["cluster", "t.txt", "--out", "file", "--force"])
+        .user_error("file: exists and is not a directory");
     // An empty directory is fine without --force.
     std::fs::create_dir(dir.join("empty")).unwrap();
     lexiclade(dir.path(), &["cluster", "t.txt", "--out", "empty", "--quiet"])
@@ -261,7 +265,8 @@ fn existing_output_needs_force_and_stays_intact_on_failure() {
 fn long_lines_are_normal_input() {
     let dir = Dir::new();
     let mut line = String::new();
-    for k in 0..200_000 {
+    // A 10 MB line, tabs and spaces mixed.
+    for k in 0..5_000_000 {
         line.push_str(["x", "y", "z", "w"][k % 4]);
         line.push(if k % 7 == 0 { '\t' } else { ' ' });
     }
@@ -274,7 +279,7 @@ fn long_lines_are_normal_input() {
         &["cluster", "long.txt", "--out", "o", "--classes", "2", "--quiet"],
     )
     .ok();
-    assert!(dir.read("o/summary.json").contains("\"tokens\": 200002"));
+    assert!(dir.read("o/summary.json").contains("\"tokens\": 5000002"));
 }
 
 #[test]
@@ -396,6 +401,15 @@ fn clustering_counts_equals_clustering_text() {
         &["cluster", "--counts", "a.counts", "--tokenize", "--out", "x"],
     );
     assert_eq!(refused.status, 2);
+    // A count file cut at a line end is noticed by its missing trailer.
+    let whole = dir.read("a.counts");
+    let cut = whole[..whole.len() / 2].rfind('\n').unwrap() + 1;
+    dir.write("cut.counts", &whole[..cut]);
+    lexiclade(
+        dir.path(),
+        &["cluster", "--counts", "cut.counts", "--out", "x"],
+    )
+    .user_error("cut.counts: truncated count file");
     dir.write("bad.counts", "kind\tfirst\tsecond\tcount\nword\tx\t\tmany\n");
     lexiclade(
         dir.path(),

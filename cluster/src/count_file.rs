@@ -18,7 +18,10 @@
 //! | `bigram` | the left word | the right word | its count |
 //!
 //! `lexiclade count` writes the three `meta` records first, then the
-//! totals, the words (most frequent first) and the bigrams, unfiltered.
+//! totals, the words (most frequent first) and the bigrams, unfiltered,
+//! and last `meta	records	N	` with the number of `word` and `bigram`
+//! records, so that a file cut short is noticed: a file with a
+//! `format_version` record must end with it.
 //! Every record is optional in a file written by another engine (the
 //! plain form): without `meta` records a file counts as format 1 with
 //! `tokenize` and `lowercase` false; missing totals count as 0; a bigram
@@ -55,7 +58,8 @@ pub fn write(counts: &Counts, out: &mut dyn Write) -> std::io::Result<()> {
         let (l, r) = (&counts.words[l as usize], &counts.words[r as usize]);
         writeln!(out, "bigram\t{l}\t{r}\t{c}")?;
     }
-    Ok(())
+    let records = counts.words.len() + counts.bigrams.len();
+    writeln!(out, "meta\trecords\t{records}\t")
 }
 
 /// Reads count files and sums them into one counter. Files whose
@@ -102,6 +106,9 @@ fn read_into(
     let mut options = TokenOptions::default();
     let mut records = Vec::new();
     let mut seen_header = false;
+    let mut versioned = false;
+    // The `records` trailer: its line and the count it claims.
+    let mut trailer: Option<(u64, usize)> = None;
     for (index, line) in reader.split(b'\n').enumerate() {
         let number = index as u64 + 1;
         let line = line.map_err(|e| Error::io(path, e))?;
@@ -131,6 +138,9 @@ fn read_into(
         let bad = |reason: &str| {
             Error::malformed(path, Some(number), reason.to_string())
         };
+        if trailer.is_some() {
+            return Err(bad("a record after the records trailer"));
+        }
         let fields: Vec<&str> = line.split('\t').collect();
         let [kind, first, second, count] = fields[..] else {
             return Err(bad(
@@ -149,7 +159,14 @@ fn read_into(
                     _ => Err(bad("a flag must be true or false")),
                 };
                 match first {
+                    "records" => {
+                        let n = second
+                            .parse()
+                            .map_err(|_| bad("bad records count"))?;
+                        trailer = Some((number, n));
+                    }
                     "format_version" => {
+                        versioned = true;
                         let got: u32 = second
                             .parse()
                             .map_err(|_| bad("bad format_version"))?;
@@ -186,6 +203,24 @@ fn read_into(
             None,
             "empty file, expected a header",
         ));
+    }
+    let listed = records.iter().filter(|r| r.0 != b't').count();
+    match trailer {
+        Some((line, n)) if n != listed => {
+            return Err(Error::malformed(
+                path,
+                Some(line),
+                format!("the file says {n} records, but it holds {listed}"),
+            ))
+        }
+        None if versioned => {
+            return Err(Error::malformed(
+                path,
+                None,
+                "truncated count file (no records trailer at the end)",
+            ))
+        }
+        _ => {}
     }
     let counter = counter.get_or_insert_with(|| Counter::new(options));
     if counter.options() != options {
@@ -270,6 +305,10 @@ mod tests {
         )
         .contains("version 2"));
         assert!(read("").contains("empty file"));
+        let full = "kind\tfirst\tsecond\tcount\nmeta\tformat_version\t1\t\nword\ta\t\t1\n";
+        assert!(read(full).contains("truncated count file"));
+        let more = format!("{full}meta\trecords\t2\t\n");
+        assert!(read(&more).contains("says 2 records, but it holds 1"));
         let bad_utf8 = b"kind\tfirst\tsecond\tcount\nword\t\xff\t\t1\n";
         let mut counter = None;
         let err = read_into(Path::new("f"), &bad_utf8[..], &mut counter)
