@@ -118,6 +118,20 @@ fn bad_experiment_configs_are_refused() {
     lexiclade(dir.path(), &["ablate", "--config", "typo.toml", "--out", "o"])
         .user_error("unknown field `epoch`");
     assert!(!dir.join("o").exists());
+    // An output directory holding the inputs is refused, even with
+    // --force.
+    let here = dir.path().to_str().unwrap().to_string();
+    lexiclade(
+        dir.path(),
+        &["ablate", "--config", "exp.toml", "--out", &here, "--force"],
+    )
+    .user_error("would overwrite the input");
+    assert!(dir.join("exp.toml").exists());
+    let twice =
+        dir.read("exp.toml").replace("seeds = [1, 2]", "seeds = [1, 1]");
+    dir.write("twice.toml", twice);
+    lexiclade(dir.path(), &["ablate", "--config", "twice.toml", "--out", "o"])
+        .user_error("a seed twice");
 }
 
 #[test]

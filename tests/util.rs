@@ -116,7 +116,12 @@ pub fn python() -> Option<PathBuf> {
         .map(PathBuf::from)
         .unwrap_or_else(|| repo().join(".venv/bin/python"));
     let works = Command::new(&path)
-        .args(["-c", "import sklearn, seqeval"])
+        .args([
+            "-c",
+            "import sklearn, importlib.metadata as m; \
+             assert sklearn.__version__ == '1.9.1', sklearn.__version__; \
+             assert m.version('seqeval') == '1.2.2', m.version('seqeval')",
+        ])
         .output()
         .is_ok_and(|o| o.status.success());
     works.then_some(path).or_else(|| {

@@ -44,14 +44,45 @@ pub struct Args {
 /// Runs the command.
 pub fn run(args: Args) -> Result<()> {
     let exp = Experiment::read(&args.config)?;
-    let out = AtomicDir::create(&args.out, args.force)?;
+    let mut inputs = vec![
+        args.config.clone(),
+        exp.data.train.clone(),
+        exp.data.dev.clone(),
+        exp.data.test.clone(),
+    ];
+    inputs.extend(exp.features.iter().map(|f| f.config.clone()));
+    if let Some(c) = &exp.clusters {
+        inputs.extend(c.dir.iter().cloned());
+        inputs.extend(c.raw.iter().cloned());
+    }
+    lexiclade::atomic::refuse_overlap(&inputs, &args.out)?;
     let threads = args.threads.unwrap_or_else(super::default_threads);
+    if threads == 0 {
+        anyhow::bail!("--threads must be at least 1");
+    }
+    let out = AtomicDir::create(&args.out, args.force)?;
     let quiet = args.quiet;
-    let data = run::prepare(&exp, &mut |msg| {
-        if !quiet {
-            eprintln!("lexiclade: {msg}");
-        }
-    })?;
+    let data = super::with_threads(threads, || {
+        run::prepare(&exp, &mut |msg| {
+            if !quiet {
+                eprintln!("lexiclade: {msg}");
+            }
+        })
+    })??;
+    let dropped: Vec<usize> = exp
+        .training
+        .sizes
+        .iter()
+        .copied()
+        .filter(|&n| n >= data.train.len())
+        .collect();
+    if !dropped.is_empty() && !quiet {
+        eprintln!(
+            "lexiclade: notice: sizes {dropped:?} are not below the {} training sentences; \
+             the whole set stands for them",
+            data.train.len()
+        );
+    }
     let total = run::combinations(&exp, data.train.len()).len();
     let bars = Bars::new(args.quiet);
     let bar = bars.steps("runs", total as u64, "runs");

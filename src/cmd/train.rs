@@ -71,6 +71,9 @@ pub struct Args {
         allow_hyphen_values = true
     )]
     label_column: Column,
+    /// Replace the model file if it exists.
+    #[arg(long)]
+    force: bool,
     /// No progress bars and no messages, only errors.
     #[arg(long, short)]
     quiet: bool,
@@ -96,13 +99,13 @@ pub fn read_labeled(
 
 /// Runs the command.
 pub fn run(args: Args) -> Result<()> {
-    for input in
-        std::iter::once(&args.train).chain(&args.dev).chain(&args.config)
-    {
-        lexiclade::atomic::refuse_overlap(
-            std::slice::from_ref(input),
-            &args.model,
-        )?;
+    let mut inputs = vec![args.train.clone()];
+    inputs.extend(args.dev.iter().cloned());
+    inputs.extend(args.config.iter().cloned());
+    inputs.extend(args.clusters.iter().cloned());
+    lexiclade::atomic::refuse_overlap(&inputs, &args.model)?;
+    if args.model.exists() && !args.force {
+        bail!("{}: exists (use --force to replace it)", args.model.display());
     }
     let spec =
         ColumnSpec { token: args.token_column, label: args.label_column };
@@ -162,7 +165,7 @@ pub fn run(args: Args) -> Result<()> {
     model.version = VERSION.to_string();
     // Through AtomicFile rather than the library's own atomic save, so
     // that an interrupt removes the partial file too.
-    let mut file = AtomicFile::create(&args.model, true)?;
+    let mut file = AtomicFile::create(&args.model, args.force)?;
     file.writer().write_all(&lexiclade_tagger::model::encode(&model))?;
     file.commit()?;
     if !args.quiet {

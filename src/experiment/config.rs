@@ -230,6 +230,11 @@ impl Experiment {
         if t.seeds.is_empty() {
             bail!("training.seeds is empty");
         }
+        let mut seeds = t.seeds.clone();
+        seeds.sort_unstable();
+        if seeds.windows(2).any(|w| w[0] == w[1]) {
+            bail!("training.seeds has a seed twice");
+        }
         if t.sizes.is_empty() && !t.all {
             bail!("no training size: give training.sizes or all = true");
         }

@@ -121,6 +121,19 @@ impl Constraints {
         }
     }
 
+    /// Checks that the tables fit `labels` labels.
+    pub fn check(&self, labels: usize) -> Result<(), String> {
+        let ok = self.labels == labels
+            && self.allowed.len() == labels * labels
+            && self.may_start.len() == labels
+            && self.may_end.len() == labels;
+        if ok {
+            Ok(())
+        } else {
+            Err("scheme constraints of the wrong size".into())
+        }
+    }
+
     /// Whether `prev → next` is allowed.
     pub fn allows(&self, prev: usize, next: usize) -> bool {
         self.allowed[prev * self.labels + next]
@@ -153,6 +166,36 @@ impl Weights {
     /// The number of nonzero (feature, label) weights.
     pub fn nonzero(&self) -> usize {
         self.rows.iter().map(Vec::len).sum()
+    }
+
+    /// Checks that the tables fit `labels` labels and `features`
+    /// features, as a model read from a file must.
+    pub fn check(&self, labels: usize, features: usize) -> Result<(), String> {
+        if self.labels != labels {
+            return Err(format!(
+                "weights for {} labels, model has {labels}",
+                self.labels
+            ));
+        }
+        if self.rows.len() > features {
+            return Err(format!(
+                "weights for {} features, model has {features}",
+                self.rows.len()
+            ));
+        }
+        if self.transitions.len() != (labels + 1) * (labels + 1) {
+            return Err("transition table of the wrong size".into());
+        }
+        let labels = labels as u32;
+        if self
+            .rows
+            .iter()
+            .flatten()
+            .any(|&(y, w)| y >= labels || !w.is_finite())
+        {
+            return Err("a weight for a label that does not exist".into());
+        }
+        Ok(())
     }
 
     fn transition(&self, prev: usize, next: usize) -> f64 {
@@ -221,7 +264,7 @@ fn viterbi(
         lat.all = (0..labels as u32).collect();
     }
     let all = &lat.all[..];
-    let cands: Vec<&[u32]> = (0..n)
+    let mut cands: Vec<&[u32]> = (0..n)
         .map(|i| match x.candidates.get(i) {
             Some(&c) if c != ANY_LABEL => lists[c as usize].as_slice(),
             _ => all,
@@ -231,36 +274,66 @@ fn viterbi(
     lat.score.resize(n * labels, f64::NEG_INFINITY);
     lat.back.clear();
     lat.back.resize(n * labels, u32::MAX);
-    for &y in cands[0] {
-        let y = y as usize;
-        if rules.may_start[y] {
-            lat.score[y] = transition(labels, y) + emissions[y];
+    // A candidate list can clash with the scheme (a word seen only as
+    // I-X after one seen only as O): then its position is filled again
+    // with every label, so one clash never spoils the whole sentence.
+    let start = |cands: &[u32], score: &mut [f64]| {
+        let mut any = false;
+        for &y in cands {
+            let y = y as usize;
+            if rules.may_start[y] {
+                score[y] = transition(labels, y) + emissions[y];
+                any = true;
+            }
         }
+        any
+    };
+    if !start(cands[0], &mut lat.score[..labels]) {
+        cands[0] = all;
+        start(all, &mut lat.score[..labels]);
     }
     for i in 1..n {
         let (done, rest) = lat.score.split_at_mut(i * labels);
         let prev = &done[(i - 1) * labels..];
         let here = &mut rest[..labels];
-        for &y in cands[i] {
-            let y = y as usize;
-            let mut best = f64::NEG_INFINITY;
-            let mut arg = u32::MAX;
-            for &p in cands[i - 1] {
-                let p = p as usize;
-                if prev[p] == f64::NEG_INFINITY || !rules.allows(p, y) {
-                    continue;
+        let back = &mut lat.back[i * labels..(i + 1) * labels];
+        let mut step = |here_cands: &[u32], here: &mut [f64]| {
+            let mut any = false;
+            for &y in here_cands {
+                let y = y as usize;
+                let mut best = f64::NEG_INFINITY;
+                let mut arg = u32::MAX;
+                for &p in cands[i - 1] {
+                    let p = p as usize;
+                    if prev[p] == f64::NEG_INFINITY || !rules.allows(p, y) {
+                        continue;
+                    }
+                    let s = prev[p] + transition(p, y);
+                    if s > best {
+                        best = s;
+                        arg = p as u32;
+                    }
                 }
-                let s = prev[p] + transition(p, y);
-                if s > best {
-                    best = s;
-                    arg = p as u32;
+                if arg != u32::MAX {
+                    here[y] = best + emissions[i * labels + y];
+                    back[y] = arg;
+                    any = true;
                 }
             }
-            if arg != u32::MAX {
-                here[y] = best + emissions[i * labels + y];
-                lat.back[i * labels + y] = arg;
-            }
+            any
+        };
+        if !step(cands[i], here) {
+            step(all, here);
+            cands[i] = all;
         }
+    }
+    let ends = |cands: &[u32], score: &[f64]| {
+        cands.iter().any(|&y| {
+            score[y as usize] > f64::NEG_INFINITY && rules.may_end[y as usize]
+        })
+    };
+    if !ends(cands[n - 1], &lat.score[(n - 1) * labels..]) {
+        cands[n - 1] = all;
     }
     let last = &lat.score[(n - 1) * labels..];
     let mut best = f64::NEG_INFINITY;
@@ -578,6 +651,31 @@ mod tests {
         let lists = [vec![1]];
         let got = w.decode(&pruned, &Constraints::none(2), &lists, &mut buf);
         assert_eq!(got, vec![1, 1]);
+    }
+
+    #[test]
+    fn a_candidate_list_that_clashes_with_the_scheme_is_ignored() {
+        // Labels O = 0, B = 1, I = 2 (IOB2: I only after B or I). Token 0
+        // is pinned to O, token 1 to I: no allowed path. Token 1 then
+        // takes any label; token 2 keeps its emission preference.
+        let allowed = |p: Option<usize>, n: usize| {
+            n != 2 || matches!(p, Some(1) | Some(2))
+        };
+        let rules = Constraints::from_fn(3, allowed, |_| true);
+        let w = Weights {
+            labels: 3,
+            rows: vec![vec![(0, 1.0)], vec![(2, 1.0)], vec![(1, 3.0)]],
+            transitions: vec![0.0; 16],
+        };
+        let x = Instance {
+            candidates: vec![0, 1, ANY_LABEL],
+            ..Instance::from_tokens(&[vec![0], vec![1], vec![2]], vec![])
+        };
+        let lists = [vec![0], vec![2]];
+        let got = w.decode(&x, &rules, &lists, &mut Decoding::default());
+        assert_eq!(got[0], 0);
+        assert_ne!(got[1], 2, "I after O is not allowed");
+        assert_eq!(got[2], 1, "the rest of the sentence is decoded normally");
     }
 
     #[test]

@@ -303,9 +303,34 @@ impl TaggerModel {
         model::save(self, path)
     }
 
-    /// Reads a model written by [`TaggerModel::save`].
+    /// Reads a model written by [`TaggerModel::save`] and checks that
+    /// its parts fit together (a file with a valid checksum can still be
+    /// one that was altered on purpose or written by a broken build).
     pub fn load(path: &Path) -> Result<TaggerModel> {
-        model::load(path)
+        let model: TaggerModel = model::load(path)?;
+        model.check().map_err(|reason| Error::Model {
+            path: path.to_path_buf(),
+            reason: format!("inconsistent model: {reason}"),
+        })?;
+        Ok(model)
+    }
+
+    fn check(&self) -> std::result::Result<(), String> {
+        let labels = self.labels.len();
+        if labels == 0 {
+            return Err("no labels".into());
+        }
+        self.weights.check(labels, self.features.len())?;
+        self.rules.check(labels)?;
+        let lists = self.candidate_lists.len() as u32;
+        if self.dictionary.values().any(|&k| k >= lists) {
+            return Err("a tag-dictionary entry points nowhere".into());
+        }
+        if self.candidate_lists.iter().flatten().any(|&y| y as usize >= labels)
+        {
+            return Err("a candidate label that does not exist".into());
+        }
+        Ok(())
     }
 }
 
@@ -456,6 +481,17 @@ mod tests {
             model.best_epoch, 3,
             "without dev data the last epoch is kept"
         );
+    }
+
+    #[test]
+    fn an_inconsistent_model_with_a_valid_checksum_is_refused() {
+        let mut model = trained();
+        model.labels.pop();
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("m.bin");
+        model.save(&path).unwrap();
+        let err = TaggerModel::load(&path).unwrap_err().to_string();
+        assert!(err.contains("inconsistent model"), "{err}");
     }
 
     #[test]
