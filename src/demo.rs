@@ -198,6 +198,12 @@ pub fn run(
     }
     let comparisons = report::compare(&experiment, data.scheme, &runs);
     report::write_runs(&experiment, &runs, &root.join("runs.csv"))?;
+    report::write_summary_json(
+        &experiment,
+        data.scheme,
+        &runs,
+        &root.join("summary.json"),
+    )?;
     report::write_savings(
         &experiment,
         &comparisons,

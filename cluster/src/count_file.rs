@@ -19,7 +19,7 @@
 //!
 //! `lexiclade count` writes the three `meta` records first, then the
 //! totals, the words (most frequent first) and the bigrams, unfiltered,
-//! and last `meta	records	N	` with the number of `word` and `bigram`
+//! and last `meta records N` (tab-separated) with the number of `word` and `bigram`
 //! records, so that a file cut short is noticed: a file with a
 //! `format_version` record must end with it.
 //! Every record is optional in a file written by another engine (the

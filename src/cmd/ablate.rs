@@ -104,6 +104,12 @@ pub fn run(args: Args) -> Result<()> {
     bar.finish_and_clear();
     let comparisons = report::compare(&exp, data.scheme, &runs);
     report::write_runs(&exp, &runs, &out.path().join("runs.csv"))?;
+    report::write_summary_json(
+        &exp,
+        data.scheme,
+        &runs,
+        &out.path().join("summary.json"),
+    )?;
     report::write_savings(
         &exp,
         &comparisons,

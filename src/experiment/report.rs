@@ -6,7 +6,7 @@ use std::collections::BTreeMap;
 use std::fmt::Write as _;
 use std::path::Path;
 
-use anyhow::Result;
+use anyhow::{Context, Result};
 
 use super::config::Experiment;
 use super::plots::{self, Point, Series};
@@ -14,6 +14,33 @@ use super::run::{metric, RunResult};
 use super::savings::{baseline_needs, Saving};
 use super::stats::{approximate_randomization, holm, mean_sd, Metric};
 use lexiclade_tagger::scheme::Scheme;
+
+/// The version of the experiment outputs (`runs.csv`, `savings.csv`),
+/// recorded in the `summary.json` beside them.
+pub const FORMAT_VERSION: u32 = 1;
+
+/// Writes `summary.json`: the format version, the metric, the baseline
+/// and the number of runs and failures.
+pub fn write_summary_json(
+    exp: &Experiment,
+    scheme: Scheme,
+    runs: &[RunResult],
+    path: &Path,
+) -> Result<()> {
+    let value = serde_json::json!({
+        "format_version": FORMAT_VERSION,
+        "metric": if scheme.has_chunks() { "f1" } else { "token_accuracy" },
+        "scheme": scheme.to_string(),
+        "baseline": exp.features[exp.baseline()].name,
+        "features": exp.features.iter().map(|f| f.name.clone()).collect::<Vec<_>>(),
+        "seeds": exp.training.seeds,
+        "runs": runs.len(),
+        "failed": runs.iter().filter(|r| r.error.is_some()).count(),
+        "version": crate::VERSION,
+    });
+    let text = serde_json::to_string_pretty(&value)? + "\n";
+    std::fs::write(path, text).with_context(|| path.display().to_string())
+}
 
 /// The columns of `runs.csv`.
 pub const RUNS_HEADER: [&str; 11] = [
