@@ -25,8 +25,8 @@ pub struct Args {
     classes: Vec<usize>,
     /// Real text (files as `cluster` reads them, `.gz` allowed) to
     /// cluster too, with --tokenize --min-count 5.
-    #[arg(long, value_name = "FILE")]
-    text: Option<PathBuf>,
+    #[arg(long = "real-text", value_name = "FILE")]
+    real_text: Option<PathBuf>,
     /// A small plan for a quick look: V = 2,000 and 4,000, 500,000
     /// tokens, C = 64 and 128 (overrides the three options above).
     #[arg(long)]
@@ -42,11 +42,14 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(args: Args) -> Result<()> {
+    if args.threads == Some(0) {
+        anyhow::bail!("--threads must be at least 1");
+    }
     let mut plan = BenchPlan {
         types: args.types,
         tokens: args.tokens,
         classes: args.classes,
-        text: args.text,
+        text: args.real_text,
         threads: args.threads.unwrap_or_else(super::default_threads),
     };
     if args.quick {
