@@ -43,7 +43,7 @@ echo "|---|---|---|---:|---:|---:|"
 run() { # name train dev test config clusters epochs
     local name=$1 train=$2 dev=$3 test=$4 config=$5 clusters=$6 epochs=$7
     local log=$work/train.log
-    "$bin" train --train "$train" --dev "$dev" --model "$work/m.bin" --config "configs/$config.toml" \
+    "$bin" train --train "$train" --dev "$dev" --model "$work/m.bin" --force --config "configs/$config.toml" \
         --clusters "$clusters" --epochs "$epochs" 2> "$log"
     local train_rate
     train_rate=$(grep -o '[0-9]* tokens/s' "$log" | awk '{print $1}' | sort -n |
@@ -51,13 +51,13 @@ run() { # name train dev test config clusters epochs
     local tokens start end
     tokens=$(grep -c . "$test")
     start=$(date +%s.%N)
-    "$bin" tag --model "$work/m.bin" "$test" --out "$work/pred.conll"
+    "$bin" tag --model "$work/m.bin" "$test" --out "$work/pred.conll" --force
     end=$(date +%s.%N)
     # The same with a one-sentence file: the cost of loading the model.
     printf 'the\tO\n\n' > "$work/one.conll"
     local load_start load_end
     load_start=$(date +%s.%N)
-    "$bin" tag --model "$work/m.bin" "$work/one.conll" --out "$work/one.pred"
+    "$bin" tag --model "$work/m.bin" "$work/one.conll" --out "$work/one.pred" --force
     load_end=$(date +%s.%N)
     local tag_rate net_rate
     tag_rate=$(awk -v t="$tokens" -v a="$start" -v b="$end" 'BEGIN {printf "%.0f", t / (b - a)}')

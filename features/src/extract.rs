@@ -147,6 +147,184 @@ impl Extractor {
         }
     }
 
+    /// [`Extractor::extract_ids`] with a cache of each word's feature ids
+    /// kept across sentences, for tagging: every feature is a function of
+    /// one word and its offset (or of an offset alone, beyond the
+    /// sentence), so each distinct word's strings are built and looked up
+    /// once. The ids are the same as `extract_ids` gives, per token, but
+    /// not in the same order.
+    pub fn extract_ids_cached<S: AsRef<str>>(
+        &self,
+        index: &FeatureIndex,
+        tokens: &[S],
+        out: &mut FeatureIds,
+        cache: &mut IdCache,
+    ) {
+        if cache.words.len() > IdCache::LIMIT {
+            cache.words.clear();
+        }
+        let config = self.config.get();
+        let lex = &config.lexical;
+        let neighbour_offsets: &[i32] =
+            if lex.neighbours { &lex.neighbour_offsets } else { &[] };
+        let window: &[i32] =
+            if self.paths.is_some() { &config.clusters.window } else { &[] };
+        if cache.markers.is_empty() {
+            cache.markers = self.marker_ids(index, neighbour_offsets, window);
+        }
+        for t in tokens {
+            let word = t.as_ref();
+            if !cache.words.contains_key(word) {
+                let entry = self.word_entry(
+                    index,
+                    word,
+                    neighbour_offsets,
+                    window,
+                    &mut out.scratch,
+                );
+                cache.words.insert(word.into(), entry);
+            }
+        }
+        let FeatureIds { ids, starts, .. } = out;
+        ids.clear();
+        starts.clear();
+        starts.push(0);
+        let n = tokens.len();
+        let markers = config.boundary_markers;
+        for i in 0..n {
+            let entry = &cache.words[tokens[i].as_ref()];
+            ids.extend_from_slice(&entry.local);
+            for (k, &off) in neighbour_offsets.iter().enumerate() {
+                match position(i, off, n) {
+                    Ok(j) => ids
+                        .extend(cache.words[tokens[j].as_ref()].neighbour[k]),
+                    Err(edge) if markers => ids
+                        .extend(cache.markers[k][usize::from(edge == "end")]),
+                    Err(_) => {}
+                }
+            }
+            for (k, &off) in window.iter().enumerate() {
+                match position(i, off, n) {
+                    Ok(j) => ids.extend_from_slice(
+                        &cache.words[tokens[j].as_ref()].path[k],
+                    ),
+                    Err(edge) if markers => ids.extend(
+                        cache.markers[neighbour_offsets.len() + k]
+                            [usize::from(edge == "end")],
+                    ),
+                    Err(_) => {}
+                }
+            }
+            starts.push(ids.len());
+        }
+    }
+
+    /// The ids of the edge markers: per neighbour offset, then per path
+    /// window offset, the `start` and `end` marker.
+    fn marker_ids(
+        &self,
+        index: &FeatureIndex,
+        neighbour_offsets: &[i32],
+        window: &[i32],
+    ) -> Vec<[Option<u32>; 2]> {
+        let mut f = String::new();
+        let mut id = |template: &str, off: i32, edge: &str| {
+            f.clear();
+            f.push_str(template);
+            f.push('[');
+            push_offset(off, &mut f);
+            f.push_str("]:");
+            f.push_str(edge);
+            index.get(&f)
+        };
+        let mut out = Vec::new();
+        for &off in neighbour_offsets {
+            out.push([id("w", off, "start"), id("w", off, "end")]);
+        }
+        for &off in window {
+            out.push([id("path", off, "start"), id("path", off, "end")]);
+        }
+        // Never empty, so the cache knows it has been filled.
+        out.push([None, None]);
+        out
+    }
+
+    /// One word's ids: its own features, and what it gives a token at
+    /// each neighbour offset and each path window offset.
+    fn word_entry(
+        &self,
+        index: &FeatureIndex,
+        word: &str,
+        neighbour_offsets: &[i32],
+        window: &[i32],
+        scratch: &mut Scratch,
+    ) -> WordIds {
+        let mut local = Vec::new();
+        // The word alone as a sentence: its features without brackets
+        // are the ones that depend on it alone.
+        self.walk(&[word], scratch, &mut |_, feature| {
+            let contextual = feature.starts_with("w[")
+                || feature.starts_with("path[")
+                || (feature.starts_with('p')
+                    && feature[1..].starts_with(|c: char| c.is_ascii_digit()));
+            if !contextual {
+                if let Some(id) = index.get(feature) {
+                    local.push(id);
+                }
+            }
+        });
+        let mut f = String::new();
+        let neighbour = neighbour_offsets
+            .iter()
+            .map(|&off| {
+                f.clear();
+                f.push_str("w[");
+                push_offset(off, &mut f);
+                f.push_str("]=");
+                f.push_str(word);
+                index.get(&f)
+            })
+            .collect();
+        let mut path_feats = Vec::new();
+        if let Some(paths) = &self.paths {
+            let c = &self.config.get().clusters;
+            let id = paths.id_with(word, &mut scratch.key);
+            for &off in window {
+                let mut ids = Vec::new();
+                match id {
+                    None => {
+                        f.clear();
+                        f.push_str("path[");
+                        push_offset(off, &mut f);
+                        f.push_str("]:none");
+                        ids.extend(index.get(&f));
+                    }
+                    Some(id) => {
+                        let path = paths.path_of_id(id);
+                        for &len in &c.prefix_lengths {
+                            f.clear();
+                            let _ = write!(f, "p{len}[");
+                            push_offset(off, &mut f);
+                            f.push_str("]=");
+                            f.push_str(&path[..len.min(path.len())]);
+                            ids.extend(index.get(&f));
+                        }
+                        if c.whole_path {
+                            f.clear();
+                            f.push_str("path[");
+                            push_offset(off, &mut f);
+                            f.push_str("]=");
+                            f.push_str(path);
+                            ids.extend(index.get(&f));
+                        }
+                    }
+                }
+                path_feats.push(ids);
+            }
+        }
+        WordIds { local, neighbour, path: path_feats }
+    }
+
     /// Calls `sink(token_index, feature)` for every feature of every
     /// token, tokens in order. The feature string is only lent: copy or
     /// intern it to keep it.
@@ -300,6 +478,32 @@ impl Extractor {
             }
         }
     }
+}
+
+/// Feature ids of words, kept across sentences by
+/// [`Extractor::extract_ids_cached`]. Belongs to one extractor and one
+/// index: use a new cache for another model.
+#[derive(Clone, Debug, Default)]
+pub struct IdCache {
+    words: rustc_hash::FxHashMap<Box<str>, WordIds>,
+    markers: Vec<[Option<u32>; 2]>,
+}
+
+impl IdCache {
+    /// Words kept before the cache starts afresh (bounds its memory).
+    pub const LIMIT: usize = 200_000;
+
+    /// An empty cache.
+    pub fn new() -> IdCache {
+        IdCache::default()
+    }
+}
+
+#[derive(Clone, Debug, Default)]
+struct WordIds {
+    local: Vec<u32>,
+    neighbour: Vec<Option<u32>>,
+    path: Vec<Vec<u32>>,
 }
 
 /// The token at offset `off` from `i` in a sentence of `n`, or the
@@ -968,6 +1172,56 @@ mod tests {
             for f in token {
                 let key = f.split(['=', ':']).next().unwrap();
                 assert!(!key.is_empty() && !key.contains(' '), "{f}");
+            }
+        }
+    }
+
+    /// The cached ids are the uncached ones, token by token (as
+    /// multisets), with and without paths and edge markers, for words
+    /// seen and unseen in the index.
+    #[test]
+    fn cached_ids_equal_uncached_ids() {
+        let sentences: [&[&str]; 4] = [
+            &["The", "cat", "sat", "on", "the", "mat", "."],
+            &["é", "cat"],
+            &["zebra"],
+            &["the", "the", "sat", "unknown-word", "cat", "sat", "é"],
+        ];
+        for markers in [true, false] {
+            for with_paths in [true, false] {
+                let mut c = FeatureConfig::default();
+                c.boundary_markers = markers;
+                c.clusters.whole_path = true;
+                let e = Extractor::new(
+                    c.check().unwrap(),
+                    with_paths.then(|| paths(true)),
+                )
+                .unwrap();
+                // An index from the first two sentences only, so that the
+                // others have features it does not know.
+                let index = FeatureIndex::from_sentences(&e, &sentences[..2]);
+                let mut cache = IdCache::new();
+                let (mut plain, mut cached) =
+                    (FeatureIds::new(), FeatureIds::new());
+                for round in 0..2 {
+                    for s in sentences {
+                        e.extract_ids(&index, s, &mut plain);
+                        e.extract_ids_cached(
+                            &index,
+                            s,
+                            &mut cached,
+                            &mut cache,
+                        );
+                        assert_eq!(plain.len(), cached.len());
+                        for i in 0..s.len() {
+                            let mut a = plain.token(i).to_vec();
+                            let mut b = cached.token(i).to_vec();
+                            a.sort_unstable();
+                            b.sort_unstable();
+                            assert_eq!(a, b, "{s:?} token {i}, round {round}, markers {markers}, paths {with_paths}");
+                        }
+                    }
+                }
             }
         }
     }

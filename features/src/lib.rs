@@ -71,6 +71,8 @@ pub use config::{
     CheckedConfig, ClusterFeatures, FeatureConfig, LexicalFeatures,
 };
 pub use error::{Error, Result};
-pub use extract::{Extractor, FeatureIds, Features, Scratch, TokenFeatures};
+pub use extract::{
+    Extractor, FeatureIds, Features, IdCache, Scratch, TokenFeatures,
+};
 pub use index::{FeatureIndex, FeatureIndexBuilder};
 pub use paths::Paths;

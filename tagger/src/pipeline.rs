@@ -7,7 +7,7 @@ use std::path::Path;
 use std::time::Instant;
 
 use lexiclade_features::{
-    CheckedConfig, Extractor, FeatureIds, FeatureIndex, Paths,
+    CheckedConfig, Extractor, FeatureIds, FeatureIndex, IdCache, Paths,
 };
 use rand::seq::SliceRandom;
 use rand::SeedableRng;
@@ -184,7 +184,7 @@ impl TaggerModel {
             .iter()
             .zip(gold)
             .map(|(s, gold)| {
-                let mut x = model.instance(&s.tokens, &mut ids);
+                let mut x = model.instance(&s.tokens, &mut ids, None);
                 x.labels = gold;
                 x
             })
@@ -232,13 +232,23 @@ impl TaggerModel {
         Ok(model)
     }
 
-    /// The features and candidate labels of a sentence.
+    /// The features and candidate labels of a sentence; with a cache
+    /// when tagging.
     fn instance<S: AsRef<str>>(
         &self,
         tokens: &[S],
         ids: &mut FeatureIds,
+        cache: Option<&mut IdCache>,
     ) -> Instance {
-        self.extractor.extract_ids(&self.features, tokens, ids);
+        match cache {
+            Some(cache) => self.extractor.extract_ids_cached(
+                &self.features,
+                tokens,
+                ids,
+                cache,
+            ),
+            None => self.extractor.extract_ids(&self.features, tokens, ids),
+        }
         let starts = ids.starts().iter().map(|&s| s as u32).collect();
         let candidates = if self.dictionary.is_empty() {
             Vec::new()
@@ -270,7 +280,7 @@ impl TaggerModel {
         if tokens.is_empty() {
             return Vec::new();
         }
-        let x = self.instance(tokens, &mut work.ids);
+        let x = self.instance(tokens, &mut work.ids, Some(&mut work.cache));
         let ids = self.weights.decode(
             &x,
             &self.rules,
@@ -334,11 +344,14 @@ impl TaggerModel {
     }
 }
 
-/// Reusable buffers for [`TaggerModel::tag`].
+/// Reusable buffers for [`TaggerModel::tag`], with a cache of feature ids
+/// by word: use one per model.
 #[derive(Default)]
 pub struct TagBuffers {
     ids: FeatureIds,
     decoding: Decoding,
+    /// Feature ids of words seen so far; belongs to one model.
+    cache: IdCache,
 }
 
 /// The decoder's constraints for `labels` under `scheme`.
