@@ -1189,8 +1189,10 @@ mod tests {
         ];
         for markers in [true, false] {
             for with_paths in [true, false] {
-                let mut c = FeatureConfig::default();
-                c.boundary_markers = markers;
+                let mut c = FeatureConfig {
+                    boundary_markers: markers,
+                    ..FeatureConfig::default()
+                };
                 c.clusters.whole_path = true;
                 let e = Extractor::new(
                     c.check().unwrap(),
