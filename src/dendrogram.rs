@@ -319,7 +319,6 @@ fn shorten(word: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use lexiclade_cluster::output::{Summary, WordEntry, FORMAT_VERSION};
 
     /// Four classes at depths 3, 3, 2 and 1:
     ///
@@ -340,31 +339,7 @@ mod tests {
             ("slowly", "1", 3, 10),
             ("bird", "01", 2, 10),
         ];
-        let entries: Vec<WordEntry> = rows
-            .iter()
-            .map(|&(word, path, class, count)| WordEntry {
-                word: word.to_string(),
-                path: path.to_string(),
-                class,
-                count,
-            })
-            .collect();
-        ClusterTable {
-            summary: Summary {
-                format_version: FORMAT_VERSION,
-                tokens: 270,
-                sentences: 30,
-                types: 9,
-                clustered_types: entries.len() as u64,
-                classes: 4,
-                min_count: 1,
-                lowercase: false,
-                tokenize: false,
-                ami_bits: 1.0,
-                version: "test".to_string(),
-            },
-            entries,
-        }
+        ClusterTable::from_rows(&rows)
     }
 
     /// The text of every `<text>` element, in document order.

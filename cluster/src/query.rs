@@ -11,7 +11,7 @@
 
 use std::{cmp::Reverse, collections::HashMap};
 
-use crate::output::ClusterTable;
+use crate::output::{ClusterTable, WordEntry};
 
 /// One flat class of a table and the words in it.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -116,6 +116,42 @@ impl ClusterTable {
     }
 }
 
+impl ClusterTable {
+    /// A table made in memory from `(word, path, class, count)` rows in
+    /// rank order, with a summary derived from them (tokens = the sum of
+    /// the counts; no sentences or AMI known). For building examples and
+    /// tests without a cluster directory.
+    pub fn from_rows(rows: &[(&str, &str, u32, u64)]) -> ClusterTable {
+        let entries: Vec<WordEntry> = rows
+            .iter()
+            .map(|&(word, path, class, count)| WordEntry {
+                word: word.to_string(),
+                path: path.to_string(),
+                class,
+                count,
+            })
+            .collect();
+        let classes =
+            entries.iter().map(|e| e.class).max().map_or(0, |c| c + 1);
+        ClusterTable {
+            summary: crate::output::Summary {
+                format_version: crate::output::FORMAT_VERSION,
+                tokens: entries.iter().map(|e| e.count).sum(),
+                sentences: 0,
+                types: entries.len() as u64,
+                clustered_types: entries.len() as u64,
+                classes: u64::from(classes),
+                min_count: 1,
+                lowercase: false,
+                tokenize: false,
+                ami_bits: 0.0,
+                version: String::new(),
+            },
+            entries,
+        }
+    }
+}
+
 /// The number of leading bits two paths share.
 pub fn shared_prefix(a: &str, b: &str) -> usize {
     a.bytes().zip(b.bytes()).take_while(|(x, y)| x == y).count()
@@ -124,7 +160,6 @@ pub fn shared_prefix(a: &str, b: &str) -> usize {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::output::{Summary, WordEntry, FORMAT_VERSION};
 
     /// Eight words in four classes:
     ///
@@ -145,31 +180,7 @@ mod tests {
             ("ran", "10", 2, 10),
             ("bird", "01", 1, 10),
         ];
-        let entries: Vec<WordEntry> = rows
-            .iter()
-            .map(|&(word, path, class, count)| WordEntry {
-                word: word.to_string(),
-                path: path.to_string(),
-                class,
-                count,
-            })
-            .collect();
-        ClusterTable {
-            summary: Summary {
-                format_version: FORMAT_VERSION,
-                tokens: 190,
-                sentences: 20,
-                types: 8,
-                clustered_types: entries.len() as u64,
-                classes: 4,
-                min_count: 1,
-                lowercase: false,
-                tokenize: false,
-                ami_bits: 1.0,
-                version: "test".to_string(),
-            },
-            entries,
-        }
+        ClusterTable::from_rows(&rows)
     }
 
     fn words(t: &ClusterTable, indices: &[usize]) -> Vec<String> {
