@@ -162,7 +162,9 @@ pub fn compare(
     for (&(f, n), scores) in &t {
         let values: Vec<f64> = scores.values().copied().collect();
         let (mean, sd) = mean_sd(&values);
-        let base_mean = t.get(&(base, n)).map_or(0.0, |s| {
+        // No successful baseline run at this size: no gain (NaN, shown
+        // as a dash).
+        let base_mean = t.get(&(base, n)).map_or(f64::NAN, |s| {
             mean_sd(&s.values().copied().collect::<Vec<_>>()).0
         });
         let p = (f != base)
@@ -265,18 +267,25 @@ pub fn write_savings(
         "train_sentences",
         "mean_score",
         "baseline_sentences",
+        "beyond_largest",
         "ratio",
         "seed_min",
         "seed_max",
     ])?;
     let opt = |x: Option<f64>| x.map_or(String::new(), |v| format!("{v:.1}"));
     for c in cmp {
-        let (needed, ratio) = match c.saving {
-            Saving::Sentences(x) => {
-                (format!("{x:.1}"), format!("{:.3}", x / c.size as f64))
-            }
+        // Numbers stay numbers: "beyond the largest size" is its own
+        // column, with the largest size in `baseline_sentences`.
+        let (needed, beyond, ratio) = match c.saving {
+            Saving::Sentences(x) => (
+                format!("{x:.1}"),
+                "false",
+                c.saving
+                    .ratio(c.size as f64)
+                    .map_or(String::new(), |r| format!("{r:.3}")),
+            ),
             Saving::BeyondLargest { largest } => {
-                (format!("> {largest}"), String::new())
+                (format!("{largest}"), "true", String::new())
             }
         };
         w.write_record([
@@ -284,6 +293,7 @@ pub fn write_savings(
             c.size.to_string(),
             format!("{:.6}", c.mean),
             needed,
+            beyond.to_string(),
             ratio,
             opt(c.saving_range.0),
             opt(c.saving_range.1),
@@ -329,7 +339,7 @@ pub fn summary(
         let p = c.p.map_or("—".to_string(), |p| {
             format!("{p:.4}{}", if c.significant { " *" } else { "" })
         });
-        let gain = if c.features == base {
+        let gain = if c.features == base || c.gain.is_nan() {
             "—".to_string()
         } else {
             format!("{:+.2}", 100.0 * c.gain)
