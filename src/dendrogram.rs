@@ -342,16 +342,7 @@ mod tests {
         ClusterTable::from_rows(&rows)
     }
 
-    /// The text of every `<text>` element, in document order.
-    fn texts(svg: &str) -> Vec<String> {
-        svg.split("<text")
-            .skip(1)
-            .map(|rest| {
-                let body = &rest[rest.find('>').unwrap() + 1..];
-                body[..body.find("</text>").unwrap()].trim().to_string()
-            })
-            .collect()
-    }
+    use crate::svg_test::texts;
 
     #[test]
     fn draws_one_label_per_leaf_in_path_order() {

@@ -16,3 +16,18 @@ pub mod synth;
 
 /// The version of lexiclade, written into every output it makes.
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");
+
+/// Helpers for the unit tests of the SVG drawings.
+#[cfg(test)]
+pub(crate) mod svg_test {
+    /// The text of every `<text>` element, in document order.
+    pub fn texts(svg: &str) -> Vec<String> {
+        svg.split("<text")
+            .skip(1)
+            .map(|rest| {
+                let body = &rest[rest.find('>').unwrap() + 1..];
+                body[..body.find("</text>").unwrap()].trim().to_string()
+            })
+            .collect()
+    }
+}

@@ -118,11 +118,6 @@ impl Counter {
         self.sentences += sentences;
     }
 
-    /// The tokens counted so far.
-    pub fn tokens(&self) -> u64 {
-        self.tokens
-    }
-
     /// Reads every line of `source`; `progress` is called now and then
     /// with the bytes read so far in all sources.
     pub fn add_source(

@@ -1068,16 +1068,7 @@ mod tests {
         ]
     }
 
-    /// The text of every `<text>` element, in document order.
-    fn texts(svg: &str) -> Vec<String> {
-        svg.split("<text")
-            .skip(1)
-            .map(|rest| {
-                let body = &rest[rest.find('>').unwrap() + 1..];
-                body[..body.find("</text>").unwrap()].trim().to_string()
-            })
-            .collect()
-    }
+    use crate::svg_test::texts;
 
     /// The points of every `<polyline>`, in document order.
     fn polylines(svg: &str) -> Vec<Vec<(i32, i32)>> {
