@@ -134,9 +134,26 @@ pub struct Merge {
     pub ami_bits: f64,
 }
 
+/// The stage a run is in.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Stage {
+    /// Merging: the window phase and, without exchange, the final merges.
+    Merging,
+    /// An exchange pass (from 1); `words_added` counts the words visited.
+    Exchange {
+        /// The pass, from 1.
+        pass: u32,
+    },
+    /// Rebuilding the tree over the refined classes; `merges_done`
+    /// counts its merges.
+    Rebuilding,
+}
+
 /// Progress of a run, reported after every step.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Progress {
+    /// The stage.
+    pub stage: Stage,
     /// Words that are part of a class by now.
     pub words_added: u64,
     /// All words to be clustered.
@@ -184,16 +201,52 @@ pub fn cluster(
     let classes = params.check(counts)?;
     let words = counts.len();
     let graph = Neighbours::new(counts);
-    let mut window = Window::new(classes + 1, words);
     let mut merges = Vec::with_capacity(words - 1);
-    let mut report = |merges_done: usize, words_added: usize| {
-        progress(Progress {
-            words_added: words_added as u64,
-            words_total: words as u64,
-            merges_done: merges_done as u64,
-            merges_total: words as u64 - 1,
-        })
-    };
+    let mut window = window_phase(&graph, classes, &mut merges, progress);
+    let class_of = flat_classes(&window, words);
+    let mut class_nodes = vec![0u32; classes];
+    for (slot, node) in window.classes() {
+        let first = window.members(slot)[0] as usize;
+        class_nodes[class_of[first] as usize] = node;
+    }
+    while window.active_count() > 1 {
+        let (merge, _) = window.merge_best((words + merges.len()) as u32);
+        merges.push(merge);
+        report(progress, Stage::Merging, merges.len(), words, words);
+    }
+    let class_paths = paths(words, &merges, &class_nodes);
+    let ami_bits = bits(flat_ami(counts, &class_of, classes));
+    Ok(Hierarchy { classes, merges, class_of, class_paths, ami_bits })
+}
+
+/// Reports progress: `merges_done` merges, `words_added` of `words`.
+pub(crate) fn report(
+    progress: &mut dyn FnMut(Progress),
+    stage: Stage,
+    merges_done: usize,
+    words_added: usize,
+    words: usize,
+) {
+    progress(Progress {
+        stage,
+        words_added: words_added as u64,
+        words_total: words as u64,
+        merges_done: merges_done as u64,
+        merges_total: words as u64 - 1,
+    })
+}
+
+/// The window phase: the `classes` most frequent words start as classes,
+/// each further word joins and one merge follows. Pushes its `V − C`
+/// merges onto `merges` and returns the window holding the `C` classes.
+pub(crate) fn window_phase(
+    graph: &Neighbours,
+    classes: usize,
+    merges: &mut Vec<Merge>,
+    progress: &mut dyn FnMut(Progress),
+) -> Window {
+    let words = graph.len();
+    let mut window = Window::new(classes + 1, words);
     let (mut right, mut left) = (Vec::new(), Vec::new());
     let mut add = |window: &mut Window, word: usize, slot: usize| {
         right.clear();
@@ -226,27 +279,14 @@ pub fn cluster(
         let (merge, freed) = window.merge_best((words + merges.len()) as u32);
         merges.push(merge);
         free = freed;
-        report(merges.len(), word + 1);
+        report(progress, Stage::Merging, merges.len(), word + 1, words);
     }
-    let class_of = flat_classes(&window, words);
-    let mut class_nodes = vec![0u32; classes];
-    for (slot, node) in window.classes() {
-        let first = window.members(slot)[0] as usize;
-        class_nodes[class_of[first] as usize] = node;
-    }
-    while window.active_count() > 1 {
-        let (merge, _) = window.merge_best((words + merges.len()) as u32);
-        merges.push(merge);
-        report(merges.len(), words);
-    }
-    let class_paths = paths(words, &merges, &class_nodes);
-    let ami_bits = bits(flat_ami(counts, &class_of, classes));
-    Ok(Hierarchy { classes, merges, class_of, class_paths, ami_bits })
+    window
 }
 
 /// Each word's flat class, numbered by the rank of its class's most
 /// frequent word.
-fn flat_classes(window: &Window, words: usize) -> Vec<u32> {
+pub(crate) fn flat_classes(window: &Window, words: usize) -> Vec<u32> {
     let mut slots: Vec<(u32, usize)> = window
         .classes()
         .map(|(slot, _)| {
@@ -277,7 +317,11 @@ pub fn flat_ami(counts: &Counts, class_of: &[u32], classes: usize) -> f64 {
 
 /// Each class's path from the tree that the merges after the window
 /// phase build over `class_nodes`.
-fn paths(words: usize, merges: &[Merge], class_nodes: &[u32]) -> Vec<String> {
+pub(crate) fn paths(
+    words: usize,
+    merges: &[Merge],
+    class_nodes: &[u32],
+) -> Vec<String> {
     let classes = class_nodes.len();
     let first_final = merges.len() + 1 - classes;
     // Children of each node created by a final merge.
@@ -303,7 +347,7 @@ fn paths(words: usize, merges: &[Merge], class_nodes: &[u32]) -> Vec<String> {
 }
 
 /// The bigrams of each word, by neighbour rank, in compressed rows.
-struct Neighbours {
+pub(crate) struct Neighbours {
     out_start: Vec<usize>,
     out: Vec<(u32, u64)>,
     in_start: Vec<usize>,
@@ -311,7 +355,7 @@ struct Neighbours {
 }
 
 impl Neighbours {
-    fn new(counts: &Counts) -> Neighbours {
+    pub(crate) fn new(counts: &Counts) -> Neighbours {
         let words = counts.len();
         let mut out_start = vec![0usize; words + 1];
         let mut in_start = vec![0usize; words + 1];
@@ -337,12 +381,17 @@ impl Neighbours {
     }
 
     /// Bigrams `(word, x)` as `(x, count)`, by `x`.
-    fn right_of(&self, word: usize) -> &[(u32, u64)] {
+    pub(crate) fn right_of(&self, word: usize) -> &[(u32, u64)] {
         &self.out[self.out_start[word]..self.out_start[word + 1]]
     }
 
+    /// The number of words.
+    pub(crate) fn len(&self) -> usize {
+        self.out_start.len() - 1
+    }
+
     /// Bigrams `(x, word)` as `(x, count)`, by `x`.
-    fn left_of(&self, word: usize) -> &[(u32, u64)] {
+    pub(crate) fn left_of(&self, word: usize) -> &[(u32, u64)] {
         &self.inc[self.in_start[word]..self.in_start[word + 1]]
     }
 }

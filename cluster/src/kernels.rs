@@ -128,6 +128,18 @@ multiversion! {
 }
 
 multiversion! {
+    /// `out[b] += g(x[b] + add) − gx[b]`, given `gx[b] = g(x[b])`: the
+    /// change of `F` when the cell holding `x[b]` grows by `add`.
+    fn add_cell_growth(add: f64, x: &[f64], gx: &[f64], out: &mut [f64]) {
+        let n = out.len();
+        let (x, gx) = (&x[..n], &gx[..n]);
+        for b in 0..n {
+            out[b] += g(x[b] + add) - gx[b];
+        }
+    }
+}
+
+multiversion! {
     /// `out[b] += φ(p, q[b]) + φ(r, s[b])`, computing `g` of the slices.
     fn add_phi_pair(p: f64, q: &[f64], r: f64, s: &[f64], out: &mut [f64]) {
         let n = out.len();

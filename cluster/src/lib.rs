@@ -42,16 +42,22 @@ pub mod ami;
 pub mod count_file;
 pub mod counts;
 pub mod error;
+pub mod exchange;
 mod kernels;
 pub mod output;
 pub mod query;
 pub mod reference;
+pub mod refine;
 pub mod text;
 pub mod tokenize;
 mod window;
 
-pub use algorithm::{cluster, ClusterParams, Hierarchy, Merge, Progress};
+pub use algorithm::{
+    cluster, ClusterParams, Hierarchy, Merge, Progress, Stage,
+};
 pub use counts::{Counter, Counts, TokenOptions};
 pub use error::{Error, Result};
+pub use exchange::ExchangeParams;
 pub use output::{ClusterOutput, ClusterTable, Summary};
+pub use refine::{cluster_refined, RefineReport};
 pub use text::{expand_inputs, Source};

@@ -32,6 +32,9 @@ pub(crate) struct Window {
     best_val: Vec<f64>,
     best_idx: Vec<usize>,
     active: Vec<bool>,
+    /// Context classes: they count in the objective but never merge, so
+    /// their pair losses stay `INFINITY` (see [`Window::with_context`]).
+    frozen: Vec<bool>,
     node: Vec<u32>,
     members: Vec<Vec<u32>>,
     slot_of_word: Vec<u32>,
@@ -66,6 +69,7 @@ impl Window {
             best_val: vec![f64::INFINITY; cap],
             best_idx: vec![0; cap],
             active: vec![false; cap],
+            frozen: vec![false; cap],
             node: vec![0; cap],
             members: vec![Vec::new(); cap],
             slot_of_word: vec![u32::MAX; words],
@@ -76,8 +80,46 @@ impl Window {
         }
     }
 
+    /// A window whose slots `0..k` hold context classes with the class
+    /// table `table` (`k × k`, row-major) among them: they count in the
+    /// AMI but never merge. Words added later merge only among
+    /// themselves, each merge still scored by the AMI of everything in
+    /// the window.
+    pub(crate) fn with_context(
+        cap: usize,
+        words: usize,
+        k: usize,
+        table: &[f64],
+    ) -> Window {
+        assert!(k < cap && table.len() == k * k);
+        let mut w = Window::new(cap, words);
+        for a in 0..k {
+            for b in 0..k {
+                let v = table[a * k + b];
+                w.n[a * cap + b] = v;
+                w.nt[b * cap + a] = v;
+                w.left[a] += v;
+                w.right[b] += v;
+                w.total += v;
+                w.f += g(v);
+            }
+            w.active[a] = true;
+            w.frozen[a] = true;
+            w.node[a] = u32::MAX;
+        }
+        for a in 0..k {
+            w.f -= g(w.left[a]) + g(w.right[a]);
+        }
+        w
+    }
+
     pub(crate) fn active_count(&self) -> usize {
         self.active.iter().filter(|&&a| a).count()
+    }
+
+    /// Active classes that may still merge (not context).
+    pub(crate) fn mergeable_count(&self) -> usize {
+        (0..self.cap).filter(|&a| self.active[a] && !self.frozen[a]).count()
     }
 
     /// The slot of the class holding `word`, which must be clustered.
@@ -188,11 +230,14 @@ impl Window {
                 kernels::add_phi(row_s[a], g_row_s[a], row_s, &g_row_s, row);
             }
         };
-        for &a in &d {
+        // Context rows hold only INFINITY: nothing to update there.
+        let rows: Vec<usize> =
+            d.iter().copied().filter(|&a| !self.frozen[a]).collect();
+        for &a in &rows {
             self.mark[a] = true;
         }
         let mut loss = std::mem::take(&mut self.loss);
-        update_rows(&mut loss, cap, &self.mark, d.len() * cap, update);
+        update_rows(&mut loss, cap, &self.mark, rows.len() * cap, update);
         self.loss = loss;
 
         // The new class's row, summed over its neighbours.
@@ -224,13 +269,13 @@ impl Window {
             &mut new_row,
         );
         for (b, v) in new_row.iter_mut().enumerate() {
-            if !self.active[b] || b == s {
+            if !self.active[b] || b == s || self.frozen[b] {
                 *v = f64::INFINITY;
             }
         }
         self.loss[s * cap..(s + 1) * cap].copy_from_slice(&new_row);
         self.newest = Some(s);
-        self.finish_step(&d, s, None, &active);
+        self.finish_step(&rows, s, None, &active);
         #[cfg(debug_assertions)]
         self.check_minima("add");
     }
@@ -455,8 +500,12 @@ impl Window {
         let (si, sj) = (support(&self.n, i), support(&self.n, j));
         let t_small = if ti.len() <= tj.len() { &ti } else { &tj };
         let s_small = if si.len() <= sj.len() { &si } else { &sj };
-        let mut rows: Vec<usize> =
-            t_small.iter().chain(s_small).copied().collect();
+        let mut rows: Vec<usize> = t_small
+            .iter()
+            .chain(s_small)
+            .copied()
+            .filter(|&a| !self.frozen[a])
+            .collect();
         rows.sort_unstable();
         rows.dedup();
 
@@ -592,7 +641,9 @@ impl Window {
             *v = f64::INFINITY;
         }
         for &b in &active {
-            self.loss[keep * cap + b] = new_row[b];
+            if !self.frozen[b] {
+                self.loss[keep * cap + b] = new_row[b];
+            }
         }
         self.finish_step(&rows, keep, Some(gone), &active);
         #[cfg(debug_assertions)]
