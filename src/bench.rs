@@ -36,6 +36,9 @@ pub struct BenchPlan {
     pub text: Option<PathBuf>,
     /// Worker threads per run.
     pub threads: usize,
+    /// Exchange passes after the window phase (`cluster
+    /// --exchange-passes`); 0 leaves them out.
+    pub exchange_passes: u32,
 }
 
 /// One measured run.
@@ -57,6 +60,23 @@ pub struct BenchRow {
     pub total_seconds: f64,
     /// Peak resident memory of the run in bytes, where known.
     pub peak_rss: Option<u64>,
+    /// What the exchange refinement did, when it ran.
+    pub exchange: Option<ExchangeFigures>,
+}
+
+/// The exchange refinement's figures of one run.
+#[derive(Clone, Debug)]
+pub struct ExchangeFigures {
+    /// AMI in bits of the window phase's classes.
+    pub ami_before_bits: f64,
+    /// AMI in bits after the exchange.
+    pub ami_after_bits: f64,
+    /// Passes run.
+    pub passes: u64,
+    /// Words whose class changed.
+    pub words_moved: u64,
+    /// Seconds in the window phase, the passes and the tree rebuild.
+    pub seconds: [f64; 3],
 }
 
 /// Runs `plan` with the `lexiclade` binary `exe`, writing corpora and
@@ -116,6 +136,7 @@ fn measure(
         .args(["--classes", &classes.to_string()])
         .args(["--threads", &plan.threads.to_string()])
         .args(flags)
+        .args(["--exchange-passes", &plan.exchange_passes.to_string()])
         .args(["--quiet", "--force"])
         .status()
         .context("cannot run lexiclade cluster")?;
@@ -132,6 +153,18 @@ fn measure(
     let num =
         |v: &serde_json::Value, key: &str| v[key].as_f64().unwrap_or(0.0);
     let count_seconds = num(&timing, "count_seconds").max(1e-9);
+    let ex = &summary["exchange"];
+    let exchange = ex.is_object().then(|| ExchangeFigures {
+        ami_before_bits: num(ex, "ami_before_bits"),
+        ami_after_bits: num(&summary, "ami_bits"),
+        passes: ex["passes_run"].as_u64().unwrap_or(0),
+        words_moved: ex["words_moved"].as_u64().unwrap_or(0),
+        seconds: [
+            num(&timing, "window_seconds"),
+            num(&timing, "exchange_seconds"),
+            num(&timing, "rebuild_seconds"),
+        ],
+    });
     Ok(BenchRow {
         corpus: corpus.to_string(),
         words: summary["clustered_types"].as_u64().unwrap_or(0),
@@ -141,6 +174,7 @@ fn measure(
         cluster_seconds: num(&timing, "cluster_seconds"),
         total_seconds: num(&timing, "total_seconds"),
         peak_rss: timing["peak_rss_bytes"].as_u64(),
+        exchange,
     })
 }
 
@@ -182,6 +216,32 @@ pub fn report(rows: &[BenchRow]) -> String {
             r.total_seconds,
             memory
         ));
+    }
+    let refined: Vec<&BenchRow> =
+        rows.iter().filter(|r| r.exchange.is_some()).collect();
+    if !refined.is_empty() {
+        out.push_str(
+            "\n| corpus | classes C | AMI before | AMI after | gain bits | \
+             passes | words moved | window s | exchange s | rebuild s |\n\
+             |---|---:|---:|---:|---:|---:|---:|---:|---:|---:|\n",
+        );
+        for r in refined {
+            let e = r.exchange.as_ref().expect("filtered");
+            out.push_str(&format!(
+                "| {} | {} | {:.4} | {:.4} | {:+.4} | {} | {} | {:.2} | \
+                 {:.2} | {:.2} |\n",
+                r.corpus,
+                r.classes,
+                e.ami_before_bits,
+                e.ami_after_bits,
+                e.ami_after_bits - e.ami_before_bits,
+                e.passes,
+                e.words_moved,
+                e.seconds[0],
+                e.seconds[1],
+                e.seconds[2]
+            ));
+        }
     }
     let synthetic: Vec<&BenchRow> =
         rows.iter().filter(|r| r.corpus.starts_with("zipf")).collect();
@@ -243,6 +303,13 @@ mod tests {
             cluster_seconds: s,
             total_seconds: s + 1.0,
             peak_rss: Some(1 << 20),
+            exchange: (c == 20).then_some(ExchangeFigures {
+                ami_before_bits: 2.0,
+                ami_after_bits: 2.25,
+                passes: 3,
+                words_moved: 7,
+                seconds: [1.0, 2.0, 0.5],
+            }),
         };
         let rows = [row(100, 10, 1.0), row(100, 20, 4.0), row(200, 10, 2.0)];
         let text = report(&rows);
@@ -252,5 +319,12 @@ mod tests {
         );
         assert!(text.contains("merge time ∝ C^2.00 on zipf V=100"), "{text}");
         assert!(text.contains("merge time ∝ V^1.00 at C = 10"), "{text}");
+        assert!(
+            text.contains(
+                "| zipf V=100 | 20 | 2.0000 | 2.2500 | +0.2500 | 3 | 7 | \
+                 1.00 | 2.00 | 0.50 |"
+            ),
+            "{text}"
+        );
     }
 }

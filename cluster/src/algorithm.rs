@@ -71,6 +71,7 @@
 use crate::ami::{ami_nats, bits};
 use crate::counts::Counts;
 use crate::error::{Error, Result};
+use crate::exchange::ExchangeSummary;
 use crate::window::{NewWord, Window};
 
 /// Relative width of a near-tie between two losses; see [`near_tie`].
@@ -182,6 +183,9 @@ pub struct Hierarchy {
     /// The AMI in bits of the flat partition over all bigrams of the
     /// clustered words, computed afresh from the counts.
     pub ami_bits: f64,
+    /// What the exchange refinement did, when it ran
+    /// ([`crate::cluster_refined`]).
+    pub exchange: Option<ExchangeSummary>,
 }
 
 impl Hierarchy {
@@ -216,7 +220,14 @@ pub fn cluster(
     }
     let class_paths = paths(words, &merges, &class_nodes);
     let ami_bits = bits(flat_ami(counts, &class_of, classes));
-    Ok(Hierarchy { classes, merges, class_of, class_paths, ami_bits })
+    Ok(Hierarchy {
+        classes,
+        merges,
+        class_of,
+        class_paths,
+        ami_bits,
+        exchange: None,
+    })
 }
 
 /// Reports progress: `merges_done` merges, `words_added` of `words`.

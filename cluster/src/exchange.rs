@@ -51,6 +51,8 @@
 
 use std::time::Instant;
 
+use serde::{Deserialize, Serialize};
+
 use crate::algorithm::{near_tie, Neighbours};
 use crate::ami::{bits, g};
 use crate::error::{Error, Result};
@@ -105,6 +107,27 @@ impl ExchangeParams {
         }
         Ok(())
     }
+}
+
+/// What a refinement did, as recorded in `summary.json`: nothing here
+/// depends on timing or threads.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ExchangeSummary {
+    /// [`ExchangeParams::max_passes`].
+    pub max_passes: u32,
+    /// [`ExchangeParams::min_pass_gain_bits`].
+    pub min_pass_gain_bits: f64,
+    /// Passes run.
+    pub passes_run: u32,
+    /// Moves made, over all passes.
+    pub moves: u64,
+    /// Words whose class changed (once however often they moved).
+    pub words_moved: u64,
+    /// Classes whose subtree was rebuilt.
+    pub classes_rebuilt: u64,
+    /// The AMI in bits of the window phase's classes, before the passes.
+    pub ami_before_bits: f64,
 }
 
 /// One accepted move.

@@ -22,6 +22,7 @@ use serde::{Deserialize, Serialize};
 use crate::algorithm::Hierarchy;
 use crate::counts::Counts;
 use crate::error::{Error, Result};
+use crate::exchange::ExchangeSummary;
 
 /// The version of the cluster directory format this build writes and
 /// reads.
@@ -60,6 +61,9 @@ pub struct Summary {
     pub ami_bits: f64,
     /// The version of lexiclade that wrote the directory.
     pub version: String,
+    /// What the exchange refinement did; absent when it did not run.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub exchange: Option<ExchangeSummary>,
 }
 
 /// A result ready to be written: the counts and the hierarchy learned
@@ -87,6 +91,7 @@ impl ClusterOutput<'_> {
             tokenize: c.options.tokenize,
             ami_bits: self.hierarchy.ami_bits,
             version: version.to_string(),
+            exchange: self.hierarchy.exchange.clone(),
         }
     }
 

@@ -146,6 +146,7 @@ impl ClusterTable {
                 tokenize: false,
                 ami_bits: 0.0,
                 version: String::new(),
+                exchange: None,
             },
             entries,
         }

@@ -45,7 +45,9 @@ use crate::algorithm::{
 use crate::ami::bits;
 use crate::counts::Counts;
 use crate::error::Result;
-use crate::exchange::{exchange, ExchangeParams, Move, Observer, Pass};
+use crate::exchange::{
+    exchange, ExchangeParams, ExchangeSummary, Move, Observer, Pass,
+};
 use crate::window::{NewWord, Window};
 
 /// What the refinement did.
@@ -127,9 +129,18 @@ pub fn cluster_refined(
         class_of: &old_class_of,
         roots: &old_nodes,
     };
-    let (hierarchy, classes_rebuilt) =
+    let (mut hierarchy, classes_rebuilt) =
         build_tree(counts, &graph, class_of, classes, Some(&kept), progress);
     let rebuild_seconds = started.elapsed().as_secs_f64();
+    hierarchy.exchange = Some(ExchangeSummary {
+        max_passes: exchange_params.max_passes,
+        min_pass_gain_bits: exchange_params.min_pass_gain_bits,
+        passes_run: passes.len() as u32,
+        moves: passes.iter().map(|p| p.moves).sum(),
+        words_moved: words_moved as u64,
+        classes_rebuilt,
+        ami_before_bits,
+    });
     let report = RefineReport {
         ami_before_bits,
         ami_after_bits: hierarchy.ami_bits,
@@ -240,8 +251,14 @@ pub(crate) fn build_tree(
     }
     let class_paths = paths(words, &merges, &roots);
     let ami_bits = bits(flat_ami(counts, &class_of, classes));
-    let hierarchy =
-        Hierarchy { classes, merges, class_of, class_paths, ami_bits };
+    let hierarchy = Hierarchy {
+        classes,
+        merges,
+        class_of,
+        class_paths,
+        ami_bits,
+        exchange: None,
+    };
     (hierarchy, rebuilt)
 }
 

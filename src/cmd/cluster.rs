@@ -6,7 +6,8 @@ use std::{path::PathBuf, time::Instant};
 use anyhow::{bail, Result};
 use lexiclade::{atomic::AtomicDir, progress::Bars, VERSION};
 use lexiclade_cluster::{
-    cluster, expand_inputs, ClusterOutput, ClusterParams, Counts, TokenOptions,
+    cluster, cluster_refined, expand_inputs, ClusterOutput, ClusterParams,
+    Counts, ExchangeParams, Progress, Stage, TokenOptions,
 };
 
 /// Learn word clusters from raw text (Brown et al. 1992 with a frequency
@@ -38,6 +39,18 @@ pub struct Args {
     /// to the number of clustered words when there are fewer. At least 2.
     #[arg(long, default_value_t = 1000, value_name = "N")]
     classes: usize,
+    /// After the window phase, run up to N passes of the exchange
+    /// algorithm (Kneser and Ney 1993): each word in turn moves to the
+    /// class that raises the AMI most, if any does; the subtree of every
+    /// class that changed is then rebuilt by greedy merging of its own
+    /// words, and the top of the tree over the refined classes. 0, the
+    /// default, leaves it out: the output is the greedy method's alone.
+    #[arg(long, default_value_t = 0, value_name = "N")]
+    exchange_passes: u32,
+    /// Stop the exchange after a pass that raised the AMI by at most BITS
+    /// (bits of AMI, at least 0).
+    #[arg(long, default_value_t = lexiclade_cluster::exchange::DEFAULT_MIN_PASS_GAIN_BITS, value_name = "BITS")]
+    exchange_min_gain: f64,
     /// Drop words seen fewer than N times, and every bigram touching them.
     #[arg(long, default_value_t = 1, value_name = "N")]
     min_count: u64,
@@ -72,6 +85,18 @@ pub fn run(args: Args) -> Result<()> {
     }
     if args.min_count == 0 {
         bail!("--min-count must be at least 1");
+    }
+    let exchange = ExchangeParams {
+        max_passes: args.exchange_passes,
+        min_pass_gain_bits: args.exchange_min_gain,
+    };
+    if args.exchange_passes > 0 {
+        exchange.check().map_err(|_| {
+            anyhow::anyhow!(
+                "--exchange-min-gain must be a number of at least 0, got {}",
+                args.exchange_min_gain
+            )
+        })?;
     }
     let from_counts = !args.counts.is_empty();
     let sources = expand_inputs(&args.inputs)?;
@@ -120,24 +145,55 @@ pub fn run(args: Args) -> Result<()> {
 
     let params = ClusterParams { classes: args.classes };
     let words = counts.len() as u64;
-    let bar = bars.steps("merging", words.saturating_sub(1), "merges");
-    let hierarchy = super::with_threads(threads, || {
-        cluster(&counts, &params, &mut |p| {
-            bar.set_position(p.merges_done);
-            if p.merges_done % 64 == 0 {
-                bar.set_message(format!(
-                    "({} of {} words added)",
-                    p.words_added, p.words_total
-                ));
-            }
-        })
+    let mut bar = bars.steps("merging", words.saturating_sub(1), "merges");
+    let mut stage = Stage::Merging;
+    let mut show = |p: Progress| {
+        if p.stage != stage {
+            bar.finish_and_clear();
+            bar = match p.stage {
+                Stage::Merging => unreachable!("merging comes first"),
+                Stage::Exchange { pass } => bars.steps(
+                    &format!("exchange {pass}"),
+                    p.words_total,
+                    "words",
+                ),
+                Stage::Rebuilding => {
+                    bars.steps("rebuilding", p.merges_total, "merges")
+                }
+            };
+            stage = p.stage;
+        }
+        match p.stage {
+            Stage::Exchange { .. } => bar.set_position(p.words_added),
+            _ => bar.set_position(p.merges_done),
+        }
+        if p.stage == Stage::Merging && p.merges_done % 64 == 0 {
+            bar.set_message(format!(
+                "({} of {} words added)",
+                p.words_added, p.words_total
+            ));
+        }
+    };
+    let (hierarchy, refined) = super::with_threads(threads, || {
+        if args.exchange_passes == 0 {
+            cluster(&counts, &params, &mut show).map(|h| (h, None))
+        } else {
+            cluster_refined(
+                &counts,
+                &params,
+                &exchange,
+                &mut show,
+                &mut |_| {},
+            )
+            .map(|(h, report)| (h, Some(report)))
+        }
     })??;
     bar.finish_and_clear();
     let clustered = started.elapsed().as_secs_f64() - counted;
 
     let result = ClusterOutput { counts: &counts, hierarchy: &hierarchy };
     result.write_dir(out.path(), VERSION)?;
-    let timing = serde_json::json!({
+    let mut timing = serde_json::json!({
         "count_seconds": counted,
         "bytes_read": counts.bytes,
         "cluster_seconds": clustered,
@@ -145,12 +201,33 @@ pub fn run(args: Args) -> Result<()> {
         "threads": threads,
         "peak_rss_bytes": lexiclade::bench::peak_rss_bytes(),
     });
+    if let Some(report) = &refined {
+        timing["window_seconds"] = report.window_seconds.into();
+        timing["exchange_seconds"] = report.exchange_seconds.into();
+        timing["rebuild_seconds"] = report.rebuild_seconds.into();
+        timing["exchange_pass_seconds"] =
+            report.passes.iter().map(|p| p.seconds).collect();
+        timing["exchange_pass_ami_bits"] =
+            report.passes.iter().map(|p| p.ami_bits).collect();
+    }
     std::fs::write(
         out.path().join("timing.json"),
         serde_json::to_string_pretty(&timing)? + "\n",
     )?;
     let target = out.target().to_path_buf();
     out.commit()?;
+    if let (Some(report), false) = (&refined, args.quiet) {
+        eprintln!(
+            "lexiclade: exchange: AMI {:.4} -> {:.4} bits in {} passes \
+             ({} words moved, {} subtrees rebuilt, {:.1} s)",
+            report.ami_before_bits,
+            report.ami_after_bits,
+            report.passes.len(),
+            report.words_moved,
+            report.classes_rebuilt,
+            report.exchange_seconds + report.rebuild_seconds
+        );
+    }
     if !args.quiet {
         eprintln!(
             "lexiclade: {} words in {} classes, AMI {:.4} bits, {:.1} s; \
