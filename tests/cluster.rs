@@ -295,6 +295,8 @@ fn help_explains_every_option() {
         "--threads",
         "--force",
         "--quiet",
+        "--exchange-passes",
+        "--exchange-min-gain",
     ] {
         assert!(run.stdout.contains(flag), "{flag} missing from --help");
     }
@@ -417,4 +419,115 @@ fn clustering_counts_equals_clustering_text() {
     )
     .user_error("bad.counts:2: the count is not a whole number");
     assert!(!dir.join("x").exists());
+}
+
+/// The exchange option: the AMI does not drop, the summary says what
+/// happened, `merges.tsv` is still a tree over all words whose top merges
+/// give paths that agree with the classes, and the result is the same
+/// for any number of threads.
+#[test]
+fn exchange_refines_and_keeps_a_consistent_tree() {
+    let dir = Dir::new();
+    let mut text = Vec::new();
+    lexiclade::synth::ZipfCorpus::new(600, 60_000, 5)
+        .write_to(&mut text)
+        .unwrap();
+    dir.write("z.txt", &text);
+    let run = |out: &str, threads: &str, passes: &str| {
+        lexiclade(
+            dir.path(),
+            &[
+                "cluster",
+                "z.txt",
+                "--out",
+                out,
+                "--classes",
+                "24",
+                "-q",
+                "--threads",
+                threads,
+                "--exchange-passes",
+                passes,
+            ],
+        )
+        .ok();
+    };
+    run("plain", "1", "0");
+    run("one", "1", "4");
+    run("two", "2", "4");
+    for name in ["clusters.tsv", "merges.tsv", "summary.json"] {
+        assert_eq!(
+            dir.read(&format!("one/{name}")),
+            dir.read(&format!("two/{name}")),
+            "{name} depends on the thread count"
+        );
+    }
+    let plain: serde_json::Value =
+        serde_json::from_str(&dir.read("plain/summary.json")).unwrap();
+    assert!(plain.get("exchange").is_none());
+    let summary: serde_json::Value =
+        serde_json::from_str(&dir.read("one/summary.json")).unwrap();
+    let ex = &summary["exchange"];
+    assert_eq!(ex["max_passes"], 4);
+    let before = ex["ami_before_bits"].as_f64().unwrap();
+    assert_eq!(before, plain["ami_bits"].as_f64().unwrap());
+    assert!(summary["ami_bits"].as_f64().unwrap() > before, "{summary}");
+    assert!(ex["words_moved"].as_u64().unwrap() > 0);
+    let timing: serde_json::Value =
+        serde_json::from_str(&dir.read("one/timing.json")).unwrap();
+    assert_eq!(
+        timing["exchange_pass_seconds"].as_array().unwrap().len() as u64,
+        ex["passes_run"].as_u64().unwrap()
+    );
+
+    let clusters = rows(&dir.read("one/clusters.tsv"));
+    let words = clusters.len();
+    let merges = rows(&dir.read("one/merges.tsv"));
+    assert_eq!(merges.len(), words - 1);
+    // Leaves under every node; paths from the root down.
+    let mut leaves: Vec<Vec<usize>> = (0..words).map(|w| vec![w]).collect();
+    let mut children = Vec::new();
+    for (step, m) in merges.iter().enumerate() {
+        let (a, b): (usize, usize) =
+            (m[1].parse().unwrap(), m[2].parse().unwrap());
+        assert_eq!(m[3].parse::<usize>().unwrap(), words + step);
+        let mut both = leaves[a].clone();
+        both.extend(leaves[b].clone());
+        leaves.push(both);
+        children.push((a, b));
+    }
+    let mut path_of_word = vec![String::new(); words];
+    let mut stack = vec![(2 * words - 2, String::new())];
+    let first_final = words - 24;
+    while let Some((node, path)) = stack.pop() {
+        if node >= words + first_final {
+            let (a, b) = children[node - words];
+            stack.push((a, format!("{path}0")));
+            stack.push((b, format!("{path}1")));
+        } else {
+            for &w in &leaves[node] {
+                path_of_word[w] = path.clone();
+            }
+        }
+    }
+    for (rank, row) in clusters.iter().enumerate() {
+        assert_eq!(row[1], path_of_word[rank], "word {}", row[0]);
+    }
+    let classes: std::collections::HashSet<&String> =
+        clusters.iter().map(|r| &r[2]).collect();
+    assert_eq!(classes.len(), 24);
+
+    lexiclade(
+        dir.path(),
+        &[
+            "cluster",
+            "z.txt",
+            "--out",
+            "bad",
+            "--exchange-passes",
+            "2",
+            "--exchange-min-gain=-1",
+        ],
+    )
+    .user_error("--exchange-min-gain");
 }
