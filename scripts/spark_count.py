@@ -7,8 +7,7 @@ the counts travel, and `lexiclade cluster --counts FILE...` sums and
 clusters them. The reading rules are lexiclade's for text that is already
 tokenised (no --tokenize): lines are split at "\\n" only, a trailing "\\r" is
 dropped, tokens are split on spaces and tabs only, and bigrams never cross
-a line. (A byte-order mark at the start of a shard is not removed here;
-shards should not carry one.)
+a line, and a byte-order mark at the very start of a shard is dropped.
 
 Output: tab-separated, header "kind first second count", then the totals
 and every word and bigram record (see the README, "Output").
@@ -23,7 +22,12 @@ import sys
 SPLIT = re.compile(r"[ \t]+")
 
 
-def tokens(line):
+def tokens(record):
+    # Hadoop's text reader gives each line with its byte offset in its
+    # file: offset 0 is a file's first line, the only place a BOM counts.
+    offset, line = record
+    if offset == 0 and line.startswith("\ufeff"):
+        line = line[1:]
     if line.endswith("\r"):
         line = line[:-1]
     return [t for t in SPLIT.split(line) if t]
@@ -44,9 +48,16 @@ def main():
         .getOrCreate()
     )
     spark.sparkContext.setLogLevel("ERROR")
-    # lineSep="\n": Spark's default reader would also break lines at a
-    # lone "\r", which lexiclade keeps inside a line.
-    lines = spark.read.option("lineSep", "\n").text(args.inputs).rdd.map(lambda r: r[0])
+    # The delimiter "\n": the default would also break lines at a lone
+    # "\r", which lexiclade keeps inside a line. Paths are joined with
+    # commas, as Hadoop's input formats take them.
+    lines = spark.sparkContext.newAPIHadoopFile(
+        ",".join(args.inputs),
+        "org.apache.hadoop.mapreduce.lib.input.TextInputFormat",
+        "org.apache.hadoop.io.LongWritable",
+        "org.apache.hadoop.io.Text",
+        conf={"textinputformat.record.delimiter": "\n"},
+    )
     sentences = lines.map(tokens).filter(lambda t: len(t) > 0).cache()
     totals = sentences.map(lambda t: (len(t), 1)).fold((0, 0), lambda a, b: (a[0] + b[0], a[1] + b[1]))
     words = sentences.flatMap(lambda t: [(w, 1) for w in t]).reduceByKey(lambda a, b: a + b).collect()

@@ -70,6 +70,32 @@ impl AtomicDir {
         &self.target
     }
 
+    /// Runs `write` on the temporary directory. Its errors name files as
+    /// the user will know them, under the target, not under the
+    /// temporary name (`out/merges.tsv: No space left on device`).
+    pub fn fill<T>(
+        &self,
+        write: impl FnOnce(&Path) -> Result<T>,
+    ) -> Result<T> {
+        write(self.path()).map_err(|e| {
+            let text = format!("{e:#}");
+            let temp = self.path().display().to_string();
+            anyhow::anyhow!(
+                text.replace(&temp, &self.target.display().to_string())
+            )
+        })
+    }
+
+    /// Writes the file `name` in the directory, naming it on failure.
+    pub fn write_file(
+        &self,
+        name: &str,
+        bytes: impl AsRef<[u8]>,
+    ) -> Result<()> {
+        std::fs::write(self.path().join(name), bytes)
+            .with_context(|| self.target.join(name).display().to_string())
+    }
+
     /// Moves the written directory into place, replacing what was there.
     pub fn commit(self) -> Result<()> {
         let temp = self.temp.keep();
@@ -109,8 +135,50 @@ impl AtomicDir {
 /// beside its target and renamed onto it by [`AtomicFile::commit`].
 pub struct AtomicFile {
     target: PathBuf,
-    writer: std::io::BufWriter<tempfile::NamedTempFile>,
+    writer: Named<std::io::BufWriter<tempfile::NamedTempFile>>,
     _pending: crate::interrupt::Registration,
+}
+
+/// Standard output, buffered, its errors naming it
+/// (`standard output: No space left on device (os error 28)`).
+pub fn standard_output() -> impl std::io::Write {
+    std::io::BufWriter::new(Named {
+        inner: std::io::stdout().lock(),
+        target: PathBuf::from("standard output"),
+    })
+}
+
+/// A writer whose errors name the file the user asked for (not the
+/// temporary one): `TARGET: No space left on device (os error 28)`.
+struct Named<W> {
+    inner: W,
+    target: PathBuf,
+}
+
+impl<W> Named<W> {
+    fn name(&self, e: std::io::Error) -> std::io::Error {
+        std::io::Error::new(e.kind(), named(&self.target, &e))
+    }
+}
+
+/// `PATH: the operating system's message`, without the temporary file's
+/// path that some errors carry.
+fn named(path: &Path, e: &std::io::Error) -> String {
+    let base = e.raw_os_error().map_or_else(
+        || e.to_string(),
+        |code| std::io::Error::from_raw_os_error(code).to_string(),
+    );
+    format!("{}: {base}", path.display())
+}
+
+impl<W: std::io::Write> std::io::Write for Named<W> {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        self.inner.write(buf).map_err(|e| self.name(e))
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        self.inner.flush().map_err(|e| self.name(e))
+    }
 }
 
 impl AtomicFile {
@@ -141,7 +209,10 @@ impl AtomicFile {
         let _pending = crate::interrupt::register(temp.path());
         Ok(AtomicFile {
             target: target.to_path_buf(),
-            writer: std::io::BufWriter::new(temp),
+            writer: Named {
+                inner: std::io::BufWriter::new(temp),
+                target: target.to_path_buf(),
+            },
             _pending,
         })
     }
@@ -154,11 +225,10 @@ impl AtomicFile {
     /// Flushes, syncs and renames the file into place.
     pub fn commit(self) -> Result<()> {
         let target = self.target;
-        let temp = self
-            .writer
-            .into_inner()
-            .map_err(|e| e.into_error())
-            .with_context(|| target.display().to_string())?;
+        let temp =
+            self.writer.inner.into_inner().map_err(|e| {
+                anyhow::anyhow!(named(&target, &e.into_error()))
+            })?;
         temp.as_file()
             .sync_all()
             .with_context(|| target.display().to_string())?;

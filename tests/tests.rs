@@ -5,6 +5,7 @@ mod util;
 mod ablate;
 mod cluster;
 mod eval;
+mod faults;
 mod featurize;
 mod outside;
 mod pos;

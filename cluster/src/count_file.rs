@@ -192,6 +192,7 @@ fn read_into(
                     first.to_string(),
                     second.to_string(),
                     number_of(count)?,
+                    number,
                 ));
             }
             _ => return Err(bad("kind must be meta, total, word or bigram")),
@@ -227,21 +228,29 @@ fn read_into(
         // Reported by the caller, which knows the other file's name.
         return Ok(options);
     }
-    for (kind, first, second, count) in records {
-        match kind {
+    for (kind, first, second, count, line) in records {
+        let added = match kind {
             b't' => match first.as_str() {
                 "tokens" => counter.add_totals(count, 0),
                 "sentences" => counter.add_totals(0, count),
                 _ => {
                     return Err(Error::malformed(
                         path,
-                        None,
+                        Some(line),
                         format!("unknown total {first:?}"),
                     ))
                 }
             },
             b'w' => counter.add_word_count(&first, count),
             _ => counter.add_bigram_count(&first, &second, count),
+        };
+        if !added {
+            return Err(Error::malformed(
+                path,
+                Some(line),
+                "the counts add up past 2^53, more than this build can \
+                 cluster exactly",
+            ));
         }
     }
     Ok(options)
@@ -314,5 +323,113 @@ mod tests {
         let err = read_into(Path::new("f"), &bad_utf8[..], &mut counter)
             .unwrap_err();
         assert_eq!(err.to_string(), "f:2: invalid UTF-8");
+    }
+
+    #[test]
+    fn sums_past_the_exact_range_are_refused() {
+        let big = format!(
+            "kind\tfirst\tsecond\tcount\nword\ta\t\t{}\nword\tb\t\t{}\n",
+            u64::MAX,
+            u64::MAX
+        );
+        let mut counter = None;
+        let err = read_into(Path::new("f"), big.as_bytes(), &mut counter)
+            .unwrap_err()
+            .to_string();
+        assert!(err.starts_with("f:2: the counts add up past 2^53"), "{err}");
+        let edge = format!(
+            "kind\tfirst\tsecond\tcount\nbigram\ta\tb\t{}\n\
+             bigram\tb\ta\t1\n",
+            crate::counts::MAX_ADDED_TOTAL
+        );
+        let mut counter = None;
+        let err = read_into(Path::new("f"), edge.as_bytes(), &mut counter)
+            .unwrap_err()
+            .to_string();
+        assert!(err.starts_with("f:3: the counts add up"), "{err}");
+    }
+
+    use proptest::prelude::*;
+
+    /// One line of a count file: mostly well-formed records with
+    /// arbitrary words and counts (huge ones included), some noise.
+    fn record() -> impl Strategy<Value = String> {
+        let kind = prop_oneof![
+            Just("word"),
+            Just("bigram"),
+            Just("total"),
+            Just("meta"),
+            Just("other")
+        ];
+        let field = "[ab\u{e9}\t]{0,3}";
+        let count = prop_oneof![
+            any::<u64>().prop_map(|c| c.to_string()),
+            (0u64..5).prop_map(|c| c.to_string()),
+            "[0-9x-]{0,3}"
+        ];
+        (kind, field, field, count)
+            .prop_map(|(k, a, b, c)| format!("{k}\t{a}\t{b}\t{c}"))
+    }
+
+    /// `Ok` or a one-line error naming the file; never a panic.
+    fn check(
+        bytes: &[u8],
+    ) -> std::result::Result<Option<Counts>, TestCaseError> {
+        let mut counter = None;
+        match read_into(Path::new("p"), bytes, &mut counter) {
+            Ok(_) => Ok(counter.map(|c| c.finish(1))),
+            Err(e) => {
+                let msg = e.to_string();
+                prop_assert!(msg.starts_with('p'), "{}", msg);
+                prop_assert!(!msg.contains('\n'), "{}", msg);
+                Ok(None)
+            }
+        }
+    }
+
+    proptest! {
+        #[test]
+        fn any_bytes_parse_or_fail_cleanly(
+            bytes in proptest::collection::vec(any::<u8>(), 0..300)
+        ) {
+            check(&bytes)?;
+            let mut headed = HEADER.as_bytes().to_vec();
+            headed.push(b'\n');
+            headed.extend(&bytes);
+            check(&headed)?;
+        }
+
+        #[test]
+        fn arbitrary_records_parse_or_fail_cleanly(
+            lines in proptest::collection::vec(record(), 0..12)
+        ) {
+            let text = format!("{HEADER}\n{}\n", lines.join("\n"));
+            if let Some(counts) = check(text.as_bytes())? {
+                prop_assert!(counts.counts.iter().sum::<u64>()
+                    <= crate::counts::MAX_ADDED_TOTAL);
+            }
+        }
+
+        /// A written file cut anywhere is refused, or reads back whole
+        /// (only the final line break was cut), or empty (only the header
+        /// is left, which is a valid plain-form file).
+        #[test]
+        fn a_cut_file_is_refused(cut in 0usize..1000) {
+            let counts = Counts::from_text(
+                "the cat sat\nthe dog ran\n", TokenOptions::default(), 1);
+            let mut bytes = Vec::new();
+            write(&counts, &mut bytes).unwrap();
+            let cut = cut % bytes.len();
+            if let Some(read) = check(&bytes[..cut])? {
+                if cut <= HEADER.len() + 1 {
+                    // Only the header is left: an empty plain-form file.
+                    prop_assert!(read.words.is_empty());
+                    return Ok(());
+                }
+                prop_assert_eq!(cut, bytes.len() - 1);
+                prop_assert_eq!(&read.words, &counts.words);
+                prop_assert_eq!(&read.bigrams, &counts.bigrams);
+            }
+        }
     }
 }

@@ -32,8 +32,23 @@ pub struct Counter {
     tokens: u64,
     sentences: u64,
     bytes: u64,
+    /// Sums of the counts added from count files, kept below
+    /// [`MAX_ADDED_TOTAL`].
+    added_words: u64,
+    added_bigrams: u64,
     scratch: Vec<u32>,
     lower: String,
+}
+
+/// The most that the word counts, the bigram counts or a total added
+/// from count files may sum to: 2^53, below which every count is exact as
+/// the `f64` the clustering computes with (about 9·10^15, far beyond any
+/// corpus). Larger sums are refused instead of wrapping or overflowing.
+pub const MAX_ADDED_TOTAL: u64 = 1 << 53;
+
+/// `sum + count` if it stays within [`MAX_ADDED_TOTAL`].
+fn within_limit(sum: u64, count: u64) -> Option<u64> {
+    sum.checked_add(count).filter(|&s| s <= MAX_ADDED_TOTAL)
 }
 
 impl Counter {
@@ -98,24 +113,57 @@ impl Counter {
     /// Adds `count` occurrences of `word`, taken as it is (already
     /// tokenised and lowercased as the options say): for counts read
     /// from a count file.
-    pub fn add_word_count(&mut self, word: &str, count: u64) {
+    ///
+    /// Returns `false`, adding nothing, when the word counts added so far
+    /// would sum past [`MAX_ADDED_TOTAL`].
+    #[must_use]
+    pub fn add_word_count(&mut self, word: &str, count: u64) -> bool {
+        let Some(sum) = within_limit(self.added_words, count) else {
+            return false;
+        };
+        self.added_words = sum;
         let id = id_of(&mut self.ids, &mut self.words, &mut self.counts, word);
         self.counts[id as usize] += count;
+        true
     }
 
     /// Adds `count` occurrences of the bigram `(left, right)`; the words
     /// must be known, or they get a count of 0.
-    pub fn add_bigram_count(&mut self, left: &str, right: &str, count: u64) {
+    ///
+    /// Returns `false`, adding nothing, when the bigram counts added so
+    /// far would sum past [`MAX_ADDED_TOTAL`].
+    #[must_use]
+    pub fn add_bigram_count(
+        &mut self,
+        left: &str,
+        right: &str,
+        count: u64,
+    ) -> bool {
+        let Some(sum) = within_limit(self.added_bigrams, count) else {
+            return false;
+        };
+        self.added_bigrams = sum;
         let l = id_of(&mut self.ids, &mut self.words, &mut self.counts, left);
         let r = id_of(&mut self.ids, &mut self.words, &mut self.counts, right);
         let key = (u64::from(l) << 32) | u64::from(r);
         *self.bigrams.entry(key).or_insert(0) += count;
+        true
     }
 
-    /// Adds token and sentence totals.
-    pub fn add_totals(&mut self, tokens: u64, sentences: u64) {
-        self.tokens += tokens;
-        self.sentences += sentences;
+    /// Adds token and sentence totals. Returns `false`, adding nothing,
+    /// when either would pass [`MAX_ADDED_TOTAL`].
+    #[must_use]
+    pub fn add_totals(&mut self, tokens: u64, sentences: u64) -> bool {
+        match (
+            within_limit(self.tokens, tokens),
+            within_limit(self.sentences, sentences),
+        ) {
+            (Some(t), Some(s)) => {
+                (self.tokens, self.sentences) = (t, s);
+                true
+            }
+            _ => false,
+        }
     }
 
     /// Reads every line of `source`; `progress` is called now and then

@@ -103,21 +103,19 @@ pub fn run(args: Args) -> Result<()> {
     })?;
     bar.finish_and_clear();
     let comparisons = report::compare(&exp, data.scheme, &runs);
-    report::write_runs(&exp, &runs, &out.path().join("runs.csv"))?;
-    report::write_summary_json(
-        &exp,
-        data.scheme,
-        &runs,
-        &out.path().join("summary.json"),
-    )?;
-    report::write_savings(
-        &exp,
-        &comparisons,
-        &out.path().join("savings.csv"),
-    )?;
     let text = report::summary(&exp, data.scheme, &runs, &comparisons);
-    std::fs::write(out.path().join("summary.md"), &text)?;
-    report::draw(&exp, data.scheme, &comparisons, out.path())?;
+    out.fill(|dir| {
+        report::write_runs(&exp, &runs, &dir.join("runs.csv"))?;
+        report::write_summary_json(
+            &exp,
+            data.scheme,
+            &runs,
+            &dir.join("summary.json"),
+        )?;
+        report::write_savings(&exp, &comparisons, &dir.join("savings.csv"))?;
+        out.write_file("summary.md", &text)?;
+        report::draw(&exp, data.scheme, &comparisons, dir)
+    })?;
     let target = out.target().to_path_buf();
     out.commit()?;
     if !args.quiet {

@@ -192,7 +192,7 @@ pub fn run(args: Args) -> Result<()> {
     let clustered = started.elapsed().as_secs_f64() - counted;
 
     let result = ClusterOutput { counts: &counts, hierarchy: &hierarchy };
-    result.write_dir(out.path(), VERSION)?;
+    out.fill(|dir| Ok(result.write_dir(dir, VERSION)?))?;
     let mut timing = serde_json::json!({
         "count_seconds": counted,
         "bytes_read": counts.bytes,
@@ -210,10 +210,12 @@ pub fn run(args: Args) -> Result<()> {
         timing["exchange_pass_ami_bits"] =
             report.passes.iter().map(|p| p.ami_bits).collect();
     }
-    std::fs::write(
-        out.path().join("timing.json"),
-        serde_json::to_string_pretty(&timing)? + "\n",
-    )?;
+    out.fill(|_| {
+        out.write_file(
+            "timing.json",
+            serde_json::to_string_pretty(&timing)? + "\n",
+        )
+    })?;
     let target = out.target().to_path_buf();
     out.commit()?;
     if let (Some(report), false) = (&refined, args.quiet) {

@@ -1,11 +1,7 @@
 //! `lexiclade eval`: score predicted labels against gold labels, chunk by
 //! chunk, from one column file.
 
-use std::{
-    collections::HashSet,
-    io::{BufWriter, Write},
-    path::PathBuf,
-};
+use std::{collections::HashSet, io::Write, path::PathBuf};
 
 use anyhow::{bail, Result};
 use lexiclade_tagger::{
@@ -108,7 +104,7 @@ pub fn run(args: Args) -> Result<()> {
     }
     let report = eval.report();
 
-    let mut out = BufWriter::new(std::io::stdout().lock());
+    let mut out = lexiclade::atomic::standard_output();
     if args.json {
         serde_json::to_writer_pretty(&mut out, &report)?;
         writeln!(out)?;

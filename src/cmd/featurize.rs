@@ -1,10 +1,7 @@
 //! `lexiclade featurize`: write the features of every token of column
 //! files, to see what a feature config gives the tagger.
 
-use std::{
-    io::{self, BufWriter, Write},
-    path::PathBuf,
-};
+use std::{io::Write, path::PathBuf};
 
 use anyhow::{bail, Context, Result};
 use lexiclade::atomic::AtomicFile;
@@ -85,8 +82,7 @@ pub fn run(args: Args) -> Result<()> {
         _ => None,
     };
     let Some(out) = out else {
-        let stdout = io::stdout();
-        let mut w = BufWriter::new(stdout.lock());
+        let mut w = lexiclade::atomic::standard_output();
         featurize(&extractor, &args.inputs, &mut w)?;
         w.flush()?;
         return Ok(());

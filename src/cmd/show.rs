@@ -3,7 +3,7 @@
 //! or a dendrogram of the top of the hierarchy.
 
 use std::{
-    io::{BufWriter, Write},
+    io::Write,
     path::{Path, PathBuf},
 };
 
@@ -104,8 +104,7 @@ pub fn run(args: Args) -> Result<()> {
         }
     }
 
-    let stdout = std::io::stdout();
-    let mut out = BufWriter::new(stdout.lock());
+    let mut out = lexiclade::atomic::standard_output();
     let mut sections = 0;
     let mut next_section = |out: &mut dyn Write| -> std::io::Result<()> {
         sections += 1;

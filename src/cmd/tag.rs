@@ -1,9 +1,6 @@
 //! `lexiclade tag`: apply a trained model to column files or plain text.
 
-use std::{
-    io::{BufWriter, Write},
-    path::PathBuf,
-};
+use std::{io::Write, path::PathBuf};
 
 use anyhow::Result;
 use lexiclade::atomic::AtomicFile;
@@ -86,8 +83,7 @@ pub fn run(args: Args) -> Result<()> {
     };
     match &args.out {
         None => {
-            let stdout = std::io::stdout();
-            let mut out = BufWriter::new(stdout.lock());
+            let mut out = lexiclade::atomic::standard_output();
             write(&mut out)?;
             out.flush()?;
         }
