@@ -25,6 +25,8 @@ SPLIT = re.compile(r"[ \t]+")
 def tokens(record):
     # Hadoop's text reader gives each line with its byte offset in its
     # file: offset 0 is a file's first line, the only place a BOM counts.
+    # (Hadoop 3's reader already skips a UTF-8 BOM there; the job does not
+    # rely on it.)
     offset, line = record
     if offset == 0 and line.startswith("\ufeff"):
         line = line[1:]
