@@ -135,7 +135,11 @@ impl AtomicDir {
 /// beside its target and renamed onto it by [`AtomicFile::commit`].
 pub struct AtomicFile {
     target: PathBuf,
-    writer: Named<std::io::BufWriter<tempfile::NamedTempFile>>,
+    /// Removed on drop unless persisted.
+    temp: tempfile::NamedTempFile,
+    /// A second handle on `temp`'s file: its errors are the operating
+    /// system's plain ones, which [`Named`] turns into the target's.
+    writer: Named<std::io::BufWriter<std::fs::File>>,
     _pending: crate::interrupt::Registration,
 }
 
@@ -161,14 +165,9 @@ impl<W> Named<W> {
     }
 }
 
-/// `PATH: the operating system's message`, without the temporary file's
-/// path that some errors carry.
+/// `PATH: the error`.
 fn named(path: &Path, e: &std::io::Error) -> String {
-    let base = e.raw_os_error().map_or_else(
-        || e.to_string(),
-        |code| std::io::Error::from_raw_os_error(code).to_string(),
-    );
-    format!("{}: {base}", path.display())
+    format!("{}: {e}", path.display())
 }
 
 impl<W: std::io::Write> std::io::Write for Named<W> {
@@ -207,10 +206,15 @@ impl AtomicFile {
                 format!("{}: cannot create a file here", parent.display())
             })?;
         let _pending = crate::interrupt::register(temp.path());
+        let handle = temp
+            .as_file()
+            .try_clone()
+            .with_context(|| target.display().to_string())?;
         Ok(AtomicFile {
             target: target.to_path_buf(),
+            temp,
             writer: Named {
-                inner: std::io::BufWriter::new(temp),
+                inner: std::io::BufWriter::new(handle),
                 target: target.to_path_buf(),
             },
             _pending,
@@ -225,14 +229,13 @@ impl AtomicFile {
     /// Flushes, syncs and renames the file into place.
     pub fn commit(self) -> Result<()> {
         let target = self.target;
-        let temp =
+        let file =
             self.writer.inner.into_inner().map_err(|e| {
                 anyhow::anyhow!(named(&target, &e.into_error()))
             })?;
-        temp.as_file()
-            .sync_all()
-            .with_context(|| target.display().to_string())?;
-        temp.persist(&target).with_context(|| {
+        file.sync_all().with_context(|| target.display().to_string())?;
+        drop(file);
+        self.temp.persist(&target).with_context(|| {
             format!("{}: cannot move the output into place", target.display())
         })?;
         Ok(())

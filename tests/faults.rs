@@ -182,22 +182,35 @@ fn a_write_that_fails_leaves_nothing_behind() {
     write_zipf(&dir, "raw.txt");
     dir.write("train.conll", lexiclade::demo::labeled(300, 1, 1.0));
     copy_config(&dir);
+    // A model and an experiment to tag and ablate with; the limit applies
+    // only to the runs below.
+    lexiclade(
+        dir.path(),
+        &["train", "--train", "train.conll", "--model", "ok.bin", "-q"],
+    )
+    .ok();
+    dir.write(
+        "exp.toml",
+        "[data]\ntrain = \"train.conll\"\ndev = \"train.conll\"\n\
+         test = \"train.conll\"\n[clusters]\nraw = [\"raw.txt\"]\n\
+         classes = 8\n[[features]]\nname = \"plain\"\nconfig = \"c.toml\"\n\
+         [training]\nsizes = [100]\nseeds = [1]\nepochs = 1\nrounds = 10\n",
+    );
     let inputs = names(dir.path());
-    let cases: [&[&str]; 4] = [
+    let cases: [&[&str]; 6] = [
         &["cluster", "raw.txt", "--out", "o", "--classes", "8", "-q"],
         &["count", "raw.txt", "--out", "c.tsv", "-q"],
         &["train", "--train", "train.conll", "--model", "m.bin", "-q"],
         &["featurize", "train.conll", "--config", "c.toml", "--out", "f.txt"],
+        &["tag", "--model", "ok.bin", "train.conll", "--out", "t.conll"],
+        &["ablate", "--config", "exp.toml", "--out", "r", "-q"],
     ];
     for args in cases {
-        let run =
-            with_file_limit(dir.path(), 16, args).user_error("too large");
-        let out = args[args
-            .iter()
-            .position(|a| a.starts_with("--out") || *a == "--model")
-            .unwrap()
-            + 1];
+        let run = with_file_limit(dir.path(), 4, args).user_error("too large");
+        let flag = if args.contains(&"--out") { "--out" } else { "--model" };
+        let out = args[args.iter().position(|a| *a == flag).unwrap() + 1];
         assert!(run.stderr.contains(out), "{args:?}: {}", run.stderr);
+        assert!(!run.stderr.contains(".partial-"), "{}", run.stderr);
         assert_eq!(names(dir.path()), inputs, "{args:?} left something");
     }
 }
@@ -259,6 +272,7 @@ fn a_full_disk_leaves_nothing_behind() {
         all.push("-q");
         let run = lexiclade(dir.path(), &all).user_error("No space left");
         assert!(run.stderr.contains(out), "{}", run.stderr);
+        assert!(!run.stderr.contains(".partial-"), "{}", run.stderr);
         assert!(names(&disk.0).is_empty(), "{args:?} left something");
     }
 }
