@@ -321,8 +321,9 @@ fn interrupt_leaves_previous_output_and_no_temporary_files() {
         .write_to(&mut big)
         .unwrap();
     drop(big);
-    let child = std::process::Command::new(env!("CARGO_BIN_EXE_lexiclade"))
-        .args([
+    crate::util::interrupt(
+        dir.path(),
+        &[
             "cluster",
             "big.txt",
             "--out",
@@ -331,23 +332,8 @@ fn interrupt_leaves_previous_output_and_no_temporary_files() {
             "500",
             "--force",
             "-q",
-        ])
-        .current_dir(dir.path())
-        .stderr(std::process::Stdio::piped())
-        .spawn()
-        .unwrap();
-    std::thread::sleep(std::time::Duration::from_millis(1500));
-    let killed = std::process::Command::new("kill")
-        .args(["-INT", &child.id().to_string()])
-        .status()
-        .unwrap();
-    assert!(killed.success());
-    let out = child.wait_with_output().unwrap();
-    assert_eq!(
-        out.status.code(),
-        Some(130),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
+        ],
+        std::time::Duration::from_millis(1500),
     );
     assert_eq!(dir.read("o/clusters.tsv"), before);
     let mut names: Vec<_> = std::fs::read_dir(dir.path())

@@ -6,7 +6,7 @@
 use std::path::Path;
 use std::process::Command;
 
-use crate::util::{lexiclade, Dir, Run};
+use crate::util::{interrupt, lexiclade, Dir, Run};
 
 /// The names in `dir`, sorted.
 fn names(dir: &Path) -> Vec<String> {
@@ -16,31 +16,6 @@ fn names(dir: &Path) -> Vec<String> {
         .collect();
     names.sort();
     names
-}
-
-/// Starts `lexiclade args` in `cwd`, sends SIGINT after `wait`, and
-/// checks the exit code 130.
-#[cfg(unix)]
-fn interrupt(cwd: &Path, args: &[&str], wait: std::time::Duration) {
-    let child = Command::new(env!("CARGO_BIN_EXE_lexiclade"))
-        .args(args)
-        .current_dir(cwd)
-        .stderr(std::process::Stdio::piped())
-        .spawn()
-        .unwrap();
-    std::thread::sleep(wait);
-    let killed = Command::new("kill")
-        .args(["-INT", &child.id().to_string()])
-        .status()
-        .unwrap();
-    assert!(killed.success());
-    let out = child.wait_with_output().unwrap();
-    assert_eq!(
-        out.status.code(),
-        Some(130),
-        "{args:?}: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
 }
 
 /// An interrupt during training leaves the previous model file as it was
@@ -165,11 +140,7 @@ fn with_file_limit(cwd: &Path, kib: u64, args: &[&str]) -> Run {
         .current_dir(cwd)
         .output()
         .expect("run bash");
-    Run {
-        status: out.status.code().unwrap_or(-1),
-        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
-        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
-    }
+    Run::from(out)
 }
 
 /// A write that fails half-way (a file-size limit standing in for a full
@@ -343,10 +314,6 @@ fn standard_output_on_a_full_device() {
         .stdout(full)
         .output()
         .unwrap();
-    let run = Run {
-        status: out.status.code().unwrap_or(-1),
-        stdout: String::new(),
-        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
-    };
+    let run = Run::from(out);
     run.user_error("standard output: No space left on device");
 }

@@ -45,7 +45,7 @@ pub struct Run {
 }
 
 impl Run {
-    fn from(output: Output) -> Run {
+    pub fn from(output: Output) -> Run {
         Run {
             status: output.status.code().unwrap_or(-1),
             stdout: String::from_utf8_lossy(&output.stdout).into_owned(),
@@ -242,4 +242,29 @@ pub fn read_brown(dir: &Path) -> Vec<(String, Vec<TaggedSentence>)> {
             (name, sentences)
         })
         .collect()
+}
+
+/// Starts `lexiclade args` in `cwd`, sends SIGINT after `wait`, and
+/// checks the exit code 130.
+#[cfg(unix)]
+pub fn interrupt(cwd: &Path, args: &[&str], wait: std::time::Duration) {
+    let child = std::process::Command::new(env!("CARGO_BIN_EXE_lexiclade"))
+        .args(args)
+        .current_dir(cwd)
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(wait);
+    let killed = std::process::Command::new("kill")
+        .args(["-INT", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(killed.success());
+    let out = child.wait_with_output().unwrap();
+    assert_eq!(
+        out.status.code(),
+        Some(130),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
 }

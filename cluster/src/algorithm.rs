@@ -408,7 +408,7 @@ impl Neighbours {
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::*;
     use crate::reference::{partition_ami, reference_merges};
     use rand::{Rng, SeedableRng};
@@ -416,7 +416,11 @@ mod tests {
 
     /// A random corpus: `lines` lines of Zipf-like tokens over `types`
     /// words, with some sticky structure so that merges differ in loss.
-    fn random_corpus(seed: u64, types: usize, lines: usize) -> String {
+    pub(crate) fn random_corpus(
+        seed: u64,
+        types: usize,
+        lines: usize,
+    ) -> String {
         let mut rng = ChaCha8Rng::seed_from_u64(seed);
         let mut text = String::new();
         for _ in 0..lines {

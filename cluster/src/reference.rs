@@ -26,37 +26,17 @@ pub fn reference_merges(counts: &Counts, classes: usize) -> Vec<Merge> {
         (0..classes).map(|w| (w as u32, vec![w as u32])).collect();
     let mut merges = Vec::new();
     let mut next_word = classes;
+    let mut present: Vec<bool> = (0..words).map(|w| w < classes).collect();
     while parts.len() > 1 {
         if next_word < words {
             parts.push((next_word as u32, vec![next_word as u32]));
+            present[next_word] = true;
             next_word += 1;
         }
-        let clustered = next_word;
-        let before = partition_ami(counts, &parts, clustered);
-        let mut candidates = Vec::new();
-        for x in 0..parts.len() {
-            for y in x + 1..parts.len() {
-                let merged = merged_parts(&parts, x, y);
-                let loss = before - partition_ami(counts, &merged, clustered);
-                candidates.push((loss, x, y));
-            }
-        }
-        let min = candidates.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
-        let (_, x, y) = candidates
-            .iter()
-            .filter(|c| near_tie(min, c.0, 1.0))
-            .min_by_key(|c| {
-                let (a, b) = (parts[c.1].0, parts[c.2].0);
-                (a.min(b), a.max(b))
-            })
-            .copied()
-            .expect("at least one candidate");
-        let (a, b) = (parts[x].0, parts[y].0);
-        parts = merged_parts(&parts, x, y);
         let node = (words + merges.len()) as u32;
-        parts.last_mut().expect("merged part").0 = node;
-        let ami_bits = bits(partition_ami(counts, &parts, clustered));
-        merges.push(Merge { child0: a.min(b), child1: a.max(b), ami_bits });
+        let (merged, merge) = best_merge(counts, &parts, 0, &present, node);
+        parts = merged;
+        merges.push(merge);
     }
     merges
 }

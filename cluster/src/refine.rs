@@ -448,25 +448,8 @@ mod tests {
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
 
-    /// Lines of tokens over `types` words, Zipf-like with sticky pairs.
     fn corpus(seed: u64, types: usize, lines: usize) -> Counts {
-        let mut rng = ChaCha8Rng::seed_from_u64(seed);
-        let mut text = String::new();
-        for _ in 0..lines {
-            let mut prev = rng.random_range(0..types);
-            for k in 0..rng.random_range(1..10) {
-                let w = if rng.random_bool(0.35) {
-                    (prev * 5 + 1) % types
-                } else {
-                    let u: f64 = rng.random();
-                    ((u * u) * types as f64) as usize
-                };
-                text.push_str(if k > 0 { " " } else { "" });
-                text.push_str(&format!("w{w}"));
-                prev = w;
-            }
-            text.push('\n');
-        }
+        let text = crate::algorithm::tests::random_corpus(seed, types, lines);
         Counts::from_text(&text, Default::default(), 1)
     }
 
