@@ -610,10 +610,10 @@ mod tests {
             assert!(!pair[1].starts_with(&pair[0]));
         }
         // The leaves under each class's path are exactly its words.
-        let mut leaves = vec![Vec::new(); 2 * words - 1];
-        for w in 0..words {
-            leaves[w].push(w as u32);
-        }
+        let mut leaves: Vec<Vec<u32>> = (0..words as u32)
+            .map(|w| vec![w])
+            .chain(std::iter::repeat_n(Vec::new(), words - 1))
+            .collect();
         for (step, m) in tree.merges.iter().enumerate() {
             let mut both = leaves[m.child0 as usize].clone();
             both.extend(leaves[m.child1 as usize].clone());

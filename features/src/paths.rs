@@ -236,6 +236,7 @@ pub(crate) mod tests {
                 tokenize,
                 ami_bits: 0.5,
                 version: "test".to_string(),
+                exchange: None,
             },
             entries,
         }
