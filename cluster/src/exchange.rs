@@ -46,7 +46,7 @@
 //! # Parallelism
 //!
 //! None: each move depends on the one before. The sums vectorise (see
-//! [`crate::kernels`]), so a pass is bound by memory bandwidth over the
+//! the `kernels` module), so a pass is bound by memory bandwidth over the
 //! class table.
 
 use std::time::Instant;
