@@ -164,6 +164,7 @@ pub fn run(
             min_count: 1,
             tokenize: false,
             lowercase: false,
+            exchange_passes: 0,
         }),
         features: vec![
             FeatureSet {
@@ -171,12 +172,14 @@ pub fn run(
                 config: root.join("ner-no-clusters.toml"),
                 prefixes: None,
                 whole_path: None,
+                clusters: None,
             },
             FeatureSet {
                 name: "clusters".into(),
                 config: root.join("ner.toml"),
                 prefixes: None,
                 whole_path: None,
+                clusters: None,
             },
         ],
         training: Training {

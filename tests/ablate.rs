@@ -170,3 +170,51 @@ fn demo_runs_end_to_end_and_clusters_beat_the_baseline() {
     // Running it again replaces the earlier demo without --force.
     lexiclade::demo::run(&dir.join("demo"), false, &params).unwrap();
 }
+
+/// A feature set may bring its own cluster directory: here the same
+/// feature config over clusters learned with and without exchange passes
+/// (the experiment's own clusters are learned from raw text with them).
+#[test]
+fn feature_sets_can_compare_cluster_directories() {
+    let dir = setup();
+    lexiclade(
+        dir.path(),
+        &["cluster", "raw.txt", "--out", "greedy", "--classes", "16", "-q"],
+    )
+    .ok();
+    let exp = dir.read("exp.toml");
+    let exp = exp
+        .replace("classes = 16", "classes = 16\n        exchange_passes = 3")
+        .replace(
+            "name = \"no clusters\"\n        config = \"ner-no-clusters.toml\"",
+            "name = \"greedy clusters\"\n        config = \"ner.toml\"\n        \
+             clusters = \"greedy\"",
+        )
+        .replace("name = \"prefixes 2, 4\"", "name = \"exchange clusters\"")
+        .replace("sizes = [25, 50]", "sizes = [25]")
+        .replace("seeds = [1, 2]", "seeds = [1]");
+    assert!(exp.contains("clusters = \"greedy\""), "{exp}");
+    dir.write("compare.toml", exp);
+    lexiclade(
+        dir.path(),
+        &["ablate", "--config", "compare.toml", "--out", "c", "-q"],
+    )
+    .ok();
+    let runs = rows(&dir, "c");
+    assert_eq!(runs.len(), 4, "{runs:?}");
+    assert!(runs.iter().all(|r| r[3] == "ok" && r[8] != "0.000000"));
+    let by = |name: &str| -> Vec<&Vec<String>> {
+        runs.iter().filter(|r| r[0] == name).collect()
+    };
+    assert_eq!(by("greedy clusters").len(), 2);
+    assert_eq!(by("exchange clusters").len(), 2);
+
+    let missing =
+        dir.read("compare.toml").replace("\"greedy\"", "\"nowhere\"");
+    dir.write("missing.toml", missing);
+    lexiclade(
+        dir.path(),
+        &["ablate", "--config", "missing.toml", "--out", "m", "-q"],
+    )
+    .user_error("greedy clusters");
+}

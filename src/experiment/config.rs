@@ -78,6 +78,10 @@ pub struct Clusters {
     /// Lowercase the raw text (default false).
     #[serde(default)]
     pub lowercase: bool,
+    /// Exchange passes after the window phase when clustering raw text
+    /// (as `cluster --exchange-passes`; default 0, none).
+    #[serde(default)]
+    pub exchange_passes: u32,
 }
 
 fn classes() -> usize {
@@ -103,6 +107,11 @@ pub struct FeatureSet {
     /// Replaces the config's whole-path switch.
     #[serde(default)]
     pub whole_path: Option<bool>,
+    /// A cluster directory for this feature set instead of the
+    /// experiment's `[clusters]`: to compare clusterings (class counts,
+    /// corpora, with and without exchange) under the same subsets.
+    #[serde(default)]
+    pub clusters: Option<PathBuf>,
 }
 
 /// Sizes, seeds, epochs and the test.
@@ -207,6 +216,9 @@ impl Experiment {
         }
         for f in &mut self.features {
             fix(&mut f.config);
+            if let Some(d) = &mut f.clusters {
+                fix(d);
+            }
         }
     }
 

@@ -14,7 +14,8 @@ use std::time::Instant;
 
 use anyhow::{Context, Result};
 use lexiclade_cluster::{
-    cluster, expand_inputs, ClusterOutput, ClusterParams, Counts, TokenOptions,
+    cluster, cluster_refined, expand_inputs, ClusterOutput, ClusterParams,
+    Counts, ExchangeParams, TokenOptions,
 };
 use lexiclade_features::{FeatureConfig, Paths};
 use lexiclade_tagger::{
@@ -41,8 +42,9 @@ pub struct Prepared {
     pub test: Vec<Labeled>,
     /// The scheme of the labels.
     pub scheme: Scheme,
-    /// Cluster paths, if the experiment has clusters.
-    pub paths: Option<Paths>,
+    /// Cluster paths per feature set: its own directory's, else the
+    /// experiment's, else none.
+    pub paths: Vec<Option<Paths>>,
     /// Feature configs, one per feature set, with overrides applied.
     pub configs: Vec<FeatureConfig>,
 }
@@ -140,7 +142,22 @@ pub fn prepare(
                     &mut |_| {},
                 )?;
                 let params = ClusterParams { classes: c.classes };
-                let hierarchy = cluster(&counts, &params, &mut |_| {})?;
+                let hierarchy = if c.exchange_passes == 0 {
+                    cluster(&counts, &params, &mut |_| {})?
+                } else {
+                    let exchange = ExchangeParams {
+                        max_passes: c.exchange_passes,
+                        ..ExchangeParams::default()
+                    };
+                    cluster_refined(
+                        &counts,
+                        &params,
+                        &exchange,
+                        &mut |_| {},
+                        &mut |_| {},
+                    )?
+                    .0
+                };
                 let table =
                     ClusterOutput { counts: &counts, hierarchy: &hierarchy }
                         .table(crate::VERSION);
@@ -164,6 +181,17 @@ pub fn prepare(
                 .check()
                 .with_context(|| format!("feature set {:?}", f.name))?;
             Ok(config)
+        })
+        .collect::<Result<Vec<_>>>()?;
+    let paths = exp
+        .features
+        .iter()
+        .map(|f| match &f.clusters {
+            Some(dir) => Ok(Some(
+                Paths::read(dir)
+                    .with_context(|| format!("feature set {:?}", f.name))?,
+            )),
+            None => Ok(paths.clone()),
         })
         .collect::<Result<Vec<_>>>()?;
     Ok(Prepared { train, dev, test, scheme, paths, configs })
@@ -275,7 +303,8 @@ fn run_into(
     let train = subset(&data.train, c.size, c.seed);
     let config = data.configs[c.features].clone().check()?;
     let uses_clusters = config.clusters.enabled != Some(false);
-    let paths = if uses_clusters { data.paths.clone() } else { None };
+    let paths =
+        if uses_clusters { data.paths[c.features].clone() } else { None };
     let params = TrainParams {
         epochs: exp.training.epochs,
         seed: c.seed,
