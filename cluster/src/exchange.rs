@@ -349,7 +349,9 @@ impl WordBigrams {
         self.itself = 0.0;
         self.right_total = 0.0;
         self.left_total = 0.0;
-        for &(x, count) in graph.right_of(w) {
+        // A count file may hold bigrams of count 0: skipped, so that a
+        // class is listed once, when its first non-zero bigram comes.
+        for &(x, count) in graph.right_of(w).iter().filter(|b| b.1 != 0) {
             let count = count as f64;
             self.right_total += count;
             if x as usize == w {
@@ -362,7 +364,7 @@ impl WordBigrams {
             }
             self.right[k] += count;
         }
-        for &(x, count) in graph.left_of(w) {
+        for &(x, count) in graph.left_of(w).iter().filter(|b| b.1 != 0) {
             let count = count as f64;
             self.left_total += count;
             if x as usize == w {
