@@ -135,11 +135,13 @@ impl AtomicDir {
 /// beside its target and renamed onto it by [`AtomicFile::commit`].
 pub struct AtomicFile {
     target: PathBuf,
-    /// Removed on drop unless persisted.
-    temp: tempfile::NamedTempFile,
     /// A second handle on `temp`'s file: its errors are the operating
     /// system's plain ones, which [`Named`] turns into the target's.
+    /// Declared first so that it is dropped (and flushed) before the
+    /// file is removed.
     writer: Named<std::io::BufWriter<std::fs::File>>,
+    /// Removed on drop unless persisted.
+    temp: tempfile::NamedTempFile,
     _pending: crate::interrupt::Registration,
 }
 

@@ -206,28 +206,46 @@ pub fn cluster(
     let words = counts.len();
     let graph = Neighbours::new(counts);
     let mut merges = Vec::with_capacity(words - 1);
-    let mut window = window_phase(&graph, classes, &mut merges, progress);
+    let window = window_phase(&graph, classes, &mut merges, progress);
     let class_of = flat_classes(&window, words);
     let mut class_nodes = vec![0u32; classes];
     for (slot, node) in window.classes() {
         let first = window.members(slot)[0] as usize;
         class_nodes[class_of[first] as usize] = node;
     }
+    Ok(finish(counts, window, merges, class_of, &class_nodes, &mut |done| {
+        report(progress, Stage::Merging, done, words, words)
+    }))
+}
+
+/// Merges the classes left in `window` (nodes `class_nodes`, by class)
+/// down to one node, after `merges`, and returns the hierarchy over the
+/// flat partition `class_of`; `done` hears the merge count after each.
+pub(crate) fn finish(
+    counts: &Counts,
+    mut window: Window,
+    mut merges: Vec<Merge>,
+    class_of: Vec<u32>,
+    class_nodes: &[u32],
+    done: &mut dyn FnMut(usize),
+) -> Hierarchy {
+    let words = counts.len();
     while window.active_count() > 1 {
         let (merge, _) = window.merge_best((words + merges.len()) as u32);
         merges.push(merge);
-        report(progress, Stage::Merging, merges.len(), words, words);
+        done(merges.len());
     }
-    let class_paths = paths(words, &merges, &class_nodes);
+    let classes = class_nodes.len();
+    let class_paths = paths(words, &merges, class_nodes);
     let ami_bits = bits(flat_ami(counts, &class_of, classes));
-    Ok(Hierarchy {
+    Hierarchy {
         classes,
         merges,
         class_of,
         class_paths,
         ami_bits,
         exchange: None,
-    })
+    }
 }
 
 /// Reports progress: `merges_done` merges, `words_added` of `words`.
@@ -328,11 +346,7 @@ pub fn flat_ami(counts: &Counts, class_of: &[u32], classes: usize) -> f64 {
 
 /// Each class's path from the tree that the merges after the window
 /// phase build over `class_nodes`.
-pub(crate) fn paths(
-    words: usize,
-    merges: &[Merge],
-    class_nodes: &[u32],
-) -> Vec<String> {
+fn paths(words: usize, merges: &[Merge], class_nodes: &[u32]) -> Vec<String> {
     let classes = class_nodes.len();
     let first_final = merges.len() + 1 - classes;
     // Children of each node created by a final merge.
@@ -450,18 +464,29 @@ pub(crate) mod tests {
         let fast =
             cluster(&counts, &ClusterParams { classes }, &mut |_| {}).unwrap();
         let slow = reference_merges(&counts, classes);
-        assert_eq!(fast.merges.len(), counts.len() - 1);
-        assert_eq!(slow.len(), fast.merges.len());
-        for (step, (f, s)) in fast.merges.iter().zip(&slow).enumerate() {
+        let what = format!("V = {}, C = {classes}", counts.len());
+        assert_same_merges(&fast.merges, &slow, counts.len(), &what);
+    }
+
+    /// The fast and the slow merges agree: all `V − 1`, the same pairs,
+    /// the same AMI after each (within 1e-9 bits).
+    pub(crate) fn assert_same_merges(
+        fast: &[Merge],
+        slow: &[Merge],
+        words: usize,
+        what: &str,
+    ) {
+        assert_eq!(fast.len(), words - 1, "{what}");
+        assert_eq!(slow.len(), fast.len(), "{what}");
+        for (step, (f, s)) in fast.iter().zip(slow).enumerate() {
             assert_eq!(
                 (f.child0, f.child1),
                 (s.child0, s.child1),
-                "merge {step} differs (V = {}, C = {classes})",
-                counts.len()
+                "merge {step} differs ({what})"
             );
             assert!(
                 (f.ami_bits - s.ami_bits).abs() < 1e-9,
-                "AMI after merge {step}: {} vs {}",
+                "AMI after merge {step}: {} vs {} ({what})",
                 f.ami_bits,
                 s.ami_bits
             );

@@ -211,7 +211,10 @@ impl Counter {
             .filter_map(|(&key, &count)| {
                 let left = rank[(key >> 32) as usize];
                 let right = rank[(key & 0xFFFF_FFFF) as usize];
-                (left != u32::MAX && right != u32::MAX)
+                // A count file may list a bigram at 0: it is no bigram,
+                // and every stage after this one may take counts as
+                // positive.
+                (left != u32::MAX && right != u32::MAX && count > 0)
                     .then_some((left, right, count))
             })
             .collect();
@@ -264,7 +267,7 @@ pub struct Counts {
     /// Each kept word's count.
     pub counts: Vec<u64>,
     /// Bigrams `(left rank, right rank, count)` between kept words,
-    /// sorted, each pair once.
+    /// sorted, each pair once, every count at least 1.
     pub bigrams: Vec<(u32, u32, u64)>,
     /// Tokens read, before the minimum count is applied.
     pub tokens: u64,

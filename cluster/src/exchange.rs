@@ -301,11 +301,12 @@ impl Table {
         if w.itself != 0.0 {
             (0..c).for_each(&mut fix);
         } else {
-            let mut seen = w.right_classes.clone();
-            seen.extend(&w.left_classes);
-            seen.sort_unstable();
-            seen.dedup();
-            seen.into_iter().for_each(fix);
+            // Each class where w has bigrams, once.
+            w.right_classes.iter().for_each(|&b| fix(b));
+            w.left_classes
+                .iter()
+                .filter(|&&b| w.right[b] == 0.0)
+                .for_each(|&b| fix(b));
         }
     }
 }
@@ -349,9 +350,9 @@ impl WordBigrams {
         self.itself = 0.0;
         self.right_total = 0.0;
         self.left_total = 0.0;
-        // A count file may hold bigrams of count 0: skipped, so that a
-        // class is listed once, when its first non-zero bigram comes.
-        for &(x, count) in graph.right_of(w).iter().filter(|b| b.1 != 0) {
+        // Counts are positive (`Counts` drops bigrams at 0), so a class
+        // is listed once, when its first bigram comes.
+        for &(x, count) in graph.right_of(w) {
             let count = count as f64;
             self.right_total += count;
             if x as usize == w {
@@ -364,7 +365,7 @@ impl WordBigrams {
             }
             self.right[k] += count;
         }
-        for &(x, count) in graph.left_of(w).iter().filter(|b| b.1 != 0) {
+        for &(x, count) in graph.left_of(w) {
             let count = count as f64;
             self.left_total += count;
             if x as usize == w {

@@ -33,13 +33,16 @@
 //!
 //! Rebuilding a class of `m` words costs one window of `C + min(m, C)`
 //! slots: `O(C²)` to set up plus `O(m · k · C)` for the merges, `k`
-//! neighbouring classes per word, so all rebuilds together cost about
-//! as much as the window phase.
+//! neighbouring classes per word; all rebuilds together `O(C³ + V·k·C)`.
+//! Measured (README): 0.8 to 1.3 times the window phase's time; a review
+//! measured 1.5 times at `C = 800` on 750 k tokens where nearly every
+//! class changed (the `O(C³)` set-up; one window reused between classes
+//! would save most of it, not done).
 
 use std::time::Instant;
 
 use crate::algorithm::{
-    flat_ami, flat_classes, paths, report, window_phase, ClusterParams,
+    finish, flat_ami, flat_classes, report, window_phase, ClusterParams,
     Hierarchy, Merge, Neighbours, Progress, Stage,
 };
 use crate::ami::bits;
@@ -199,8 +202,17 @@ pub(crate) fn build_tree(
     let mut merges = Vec::with_capacity(words - 1);
     let mut roots = Vec::with_capacity(classes);
     let mut rebuilt = 0;
+    let old_sizes = kept.map(|kept| {
+        let mut sizes = vec![0usize; kept.roots.len()];
+        for &c in kept.class_of {
+            sizes[c as usize] += 1;
+        }
+        sizes
+    });
     for (k, list) in members.iter().enumerate() {
-        let old = kept.and_then(|kept| unchanged(kept, list));
+        let old = kept.zip(old_sizes.as_deref()).and_then(|(kept, sizes)| {
+            unchanged(kept.class_of, sizes, list).map(|old| (kept, old))
+        });
         let root = match old {
             Some((kept, old_class)) => {
                 copy_subtree(kept, old_class, words, &mut merges)
@@ -244,21 +256,10 @@ pub(crate) fn build_tree(
             &NewWord { right: &right, left: &left, itself },
         );
     }
-    while window.active_count() > 1 {
-        let (merge, _) = window.merge_best((words + merges.len()) as u32);
-        merges.push(merge);
-        report(progress, Stage::Rebuilding, merges.len(), words, words);
-    }
-    let class_paths = paths(words, &merges, &roots);
-    let ami_bits = bits(flat_ami(counts, &class_of, classes));
-    let hierarchy = Hierarchy {
-        classes,
-        merges,
-        class_of,
-        class_paths,
-        ami_bits,
-        exchange: None,
-    };
+    let hierarchy =
+        finish(counts, window, merges, class_of, &roots, &mut |merges_done| {
+            report(progress, Stage::Rebuilding, merges_done, words, words)
+        });
     (hierarchy, rebuilt)
 }
 
@@ -274,15 +275,17 @@ fn class_table(graph: &Neighbours, class_of: &[u32], c: usize) -> Vec<f64> {
     table
 }
 
-/// The old class holding exactly the words `list`, if there is one.
-fn unchanged<'a>(
-    kept: &'a KeptSubtrees<'a>,
+/// The old class (`old_of`, with `old_sizes`) holding exactly the words
+/// `list`, if there is one.
+fn unchanged(
+    old_of: &[u32],
+    old_sizes: &[usize],
     list: &[u32],
-) -> Option<(&'a KeptSubtrees<'a>, u32)> {
-    let old = kept.class_of[list[0] as usize];
-    let same = list.iter().all(|&w| kept.class_of[w as usize] == old)
-        && kept.class_of.iter().filter(|&&c| c == old).count() == list.len();
-    same.then_some((kept, old))
+) -> Option<u32> {
+    let old = old_of[list[0] as usize];
+    let same = old_sizes[old as usize] == list.len()
+        && list.iter().all(|&w| old_of[w as usize] == old);
+    same.then_some(old)
 }
 
 /// Appends the window phase's subtree of old class `old`, renumbered,
@@ -498,16 +501,12 @@ mod tests {
                 &mut |_| {},
             );
             let slow = reference_tree(&counts, &class_of, classes);
-            assert_eq!(fast.merges.len(), counts.len() - 1);
-            assert_eq!(slow.len(), fast.merges.len());
-            for (step, (f, s)) in fast.merges.iter().zip(&slow).enumerate() {
-                assert_eq!(
-                    (f.child0, f.child1),
-                    (s.child0, s.child1),
-                    "seed {seed}, merge {step}"
-                );
-                assert!((f.ami_bits - s.ami_bits).abs() < 1e-9);
-            }
+            crate::algorithm::tests::assert_same_merges(
+                &fast.merges,
+                &slow,
+                counts.len(),
+                &format!("seed {seed}"),
+            );
             let multi = parts_of(&class_of, classes)
                 .iter()
                 .filter(|p| p.1.len() > 1)
@@ -645,8 +644,8 @@ mod tests {
 
     #[test]
     fn kept_subtrees_are_the_window_phase_ones() {
-        // One pass with a gain floor so high that few words move: most
-        // classes keep their subtrees, which must be copied intact.
+        // One pass: some classes keep their words, and their subtrees
+        // must be copied intact.
         let counts = corpus(8, 90, 300);
         let classes = 10;
         let plain =
@@ -682,12 +681,23 @@ mod tests {
         };
         let plain_splits = splits(&plain.merges[..words - classes]);
         let refined_splits = splits(&tree.merges[..words - classes]);
-        let kept_classes = classes as u64 - report.classes_rebuilt;
-        let mut found = 0;
+        let members_of = |class_of: &[u32], c: u32| -> Vec<u32> {
+            (0..words as u32).filter(|&w| class_of[w as usize] == c).collect()
+        };
+        let plain_classes: Vec<Vec<u32>> = (0..classes as u32)
+            .map(|c| members_of(&plain.class_of, c))
+            .collect();
+        let (mut kept, mut multi) = (0, 0);
         for c in 0..classes as u32 {
-            let members: Vec<u32> = (0..words as u32)
-                .filter(|&w| tree.class_of[w as usize] == c)
-                .collect();
+            let members = members_of(&tree.class_of, c);
+            if members.len() < 2 {
+                continue;
+            }
+            multi += 1;
+            if !plain_classes.contains(&members) {
+                continue;
+            }
+            kept += 1;
             let inside = |s: &[Vec<u32>; 2]| {
                 s.iter().flatten().all(|w| members.contains(w))
             };
@@ -697,10 +707,68 @@ mod tests {
                 refined_splits.iter().filter(|s| inside(s)).collect();
             a.sort();
             b.sort();
-            if a.len() + 1 == members.len() && a == b {
-                found += 1;
+            assert_eq!(a.len() + 1, members.len(), "class {c}");
+            assert_eq!(a, b, "class {c}: its subtree changed");
+        }
+        assert!(kept > 0, "no class kept its words");
+        assert_eq!(kept, multi - report.classes_rebuilt, "{report:?}");
+    }
+
+    /// Count files may hold bigrams of count 0; they change nothing, so
+    /// the exchange must give the same result with and without them
+    /// (they once made a class count twice in a word's bigrams).
+    #[test]
+    fn zero_count_bigrams_change_nothing() {
+        let text = crate::algorithm::tests::random_corpus(21, 60, 200);
+        let counts = Counts::from_text(&text, Default::default(), 1);
+        let mut file = Vec::new();
+        crate::count_file::write(&counts, &mut file).unwrap();
+        let file = String::from_utf8(file).unwrap();
+        // A bigram at count 0 from each of a few words to every word,
+        // before the trailer: each of those words then meets zeros before
+        // real bigrams of the same class.
+        let (body, trailer) = file.rsplit_once("meta\trecords").unwrap();
+        let mut extra = String::new();
+        for a in &counts.words[..8] {
+            for b in &counts.words {
+                extra.push_str(&format!("bigram\t{a}\t{b}\t0\n"));
             }
         }
-        assert!(found as u64 >= kept_classes, "{found} of {kept_classes}");
+        let added = 8 * counts.words.len();
+        let padded = format!("{body}{extra}meta\trecords{trailer}");
+        let padded = padded.replacen(
+            &format!(
+                "meta\trecords\t{}\t",
+                counts.words.len() + counts.bigrams.len()
+            ),
+            &format!(
+                "meta\trecords\t{}\t",
+                counts.words.len() + counts.bigrams.len() + added
+            ),
+            1,
+        );
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("c.tsv");
+        std::fs::write(&path, padded).unwrap();
+        let read =
+            crate::count_file::read_all(&[path.as_path()]).unwrap().finish(1);
+        // Dropped on reading, so that no stage has to skip them.
+        assert_eq!(read.bigrams, counts.bigrams);
+        let run = |c: &Counts| {
+            cluster_refined(
+                c,
+                &ClusterParams { classes: 6 },
+                &ExchangeParams::default(),
+                &mut |_| {},
+                &mut |_| {},
+            )
+            .unwrap()
+        };
+        let ((a, ra), (b, rb)) = (run(&counts), run(&read));
+        assert!(ra.words_moved > 0);
+        assert_eq!(a.class_of, b.class_of);
+        assert_eq!(ra.passes.len(), rb.passes.len());
+        assert!((a.ami_bits - b.ami_bits).abs() < 1e-12);
+        assert!((rb.ami_after_bits - b.ami_bits).abs() < 1e-12);
     }
 }
