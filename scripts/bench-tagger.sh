@@ -3,22 +3,29 @@
 # median over epochs) and tagging throughput (tokens per second including
 # loading the model), single thread, with and without cluster features,
 # on WNUT-17 train.conll and on the Brown POS split. Prints a Markdown
-# table. Needs a release build, the shared data beside the checkout (or
-# LEXICLADE_DATA) and scripts/setup-reference.sh run once.
+# table. Needs scripts/setup-reference.sh run once (for the Brown corpus);
+# the WNUT-17 files and the prose sample are shipped in data/ (set
+# LEXICLADE_PROSE to more raw prose for the Brown clusters).
 set -euo pipefail
 cd "$(dirname "${BASH_SOURCE[0]}")/.."
 cargo build --release -q
 bin=$PWD/target/release/lexiclade
-data=${LEXICLADE_DATA:-$PWD/../shared/data}
+prose=${LEXICLADE_PROSE:-$PWD/data/gutenberg-sample/books-sample.txt.gz}
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
+# The shipped WNUT-17 files, decompressed (the token count below reads them).
+data=$work/data
+mkdir -p "$data/wnut17"
+for part in train dev; do
+    gzip -dc "data/wnut17/$part.conll.gz" > "$data/wnut17/$part.conll"
+done
 
 # The Brown POS split as column files (file number ending in 0: test,
 # 5: dev, else train; tags cut at the first '-', '--...' kept as '--').
 .venv/bin/python scripts/brown_split.py "$work" pos-
 
-"$bin" cluster "$data/wnut17/raw" --tokenize --classes 256 --min-count 2 --out "$work/wnut-clusters" -q
-"$bin" cluster "$work/pos-words.txt" "$data/gutenberg-us/books.txt.gz" --tokenize --classes 256 \
+"$bin" cluster data/wnut17/raw --tokenize --classes 256 --min-count 2 --out "$work/wnut-clusters" -q
+"$bin" cluster "$work/pos-words.txt" "$prose" --tokenize --classes 256 \
     --min-count 3 --out "$work/pos-clusters" -q
 
 echo "| task | features | decoder | train tokens/s per epoch | tag tokens/s | tag tokens/s, model load excluded |"

@@ -7,7 +7,7 @@ use std::process::Command;
 
 use serde_json::Value;
 
-use crate::util::{lexiclade, lexiclade_stdin, python, shared_data, Dir};
+use crate::util::{lexiclade, lexiclade_stdin, python, repo_data, Dir};
 
 /// The scores of `file` by seqeval 1.2.2 (`scripts/seqeval_check.py`).
 fn seqeval(python: &Path, file: &Path) -> Value {
@@ -240,12 +240,11 @@ const REWRITTEN_TOKENS: [(&str, usize); 1] = [("mic-cis", 1283)];
 
 #[test]
 fn wnut17_submissions_reproduce_the_published_table() {
-    let Some(data) = shared_data("wnut17") else { return };
-    let gold = read_rows(&data.join("test.conll"));
+    let gold = read_rows(&repo_data("wnut17/test.conll"));
     assert_eq!(gold.len(), 1287, "sentences of test.conll");
     let dir = Dir::new();
     for (team, published) in WNUT17 {
-        let file = data.join(format!("submissions/{team}.conll"));
+        let file = repo_data(&format!("wnut17/submissions/{team}.conll"));
         let pred = read_rows(&file);
         assert_eq!(
             pred.len(),

@@ -3,7 +3,7 @@
 //! and the gain from clusters learned on raw text.
 
 use crate::util::{
-    brown_corpus, lexiclade, read_brown, shared_data, Dir, TaggedSentence,
+    brown_corpus, lexiclade, read_brown, repo, Dir, TaggedSentence,
 };
 
 /// The split used here: a file whose two-digit number ends in 0 is test,
@@ -66,7 +66,6 @@ fn accuracy(dir: &Dir, model: &str, train: &str) -> (f64, f64) {
 )]
 fn brown_pos_accuracy_and_cluster_gain() {
     let Some(brown) = brown_corpus() else { return };
-    let Some(books) = shared_data("gutenberg-us") else { return };
     let [train, dev, test] = split(&brown);
     let count = |s: &[TaggedSentence]| {
         (s.len(), s.iter().map(Vec::len).sum::<usize>())
@@ -116,7 +115,7 @@ fn brown_pos_accuracy_and_cluster_gain() {
         words.push('\n');
     }
     dir.write("words.txt", words);
-    let books = books.join("books.txt.gz");
+    let books = repo().join("data/gutenberg-sample/books-sample.txt.gz");
     lexiclade(
         dir.path(),
         &[

@@ -173,24 +173,32 @@ pub fn brown_corpus() -> Option<PathBuf> {
     })
 }
 
-/// `name` inside the shared open-data directory (`LEXICLADE_DATA`, or
-/// `../shared/data` beside the checkout), or `None` after saying how to
-/// get it. Under CI missing data fails.
-pub fn shared_data(name: &str) -> Option<PathBuf> {
-    let root = std::env::var_os("LEXICLADE_DATA")
-        .map(PathBuf::from)
-        .unwrap_or_else(|| repo().join("../shared/data"));
-    let path = root.join(name);
-    if path.exists() {
-        return Some(path);
+/// The data file `rel` shipped in the repository's `data/` folder
+/// (e.g. `wnut17/test.conll`), decompressed from `data/REL.gz` once into
+/// Cargo's temporary target folder; a file shipped uncompressed is
+/// returned as it is. Missing data is a broken checkout, so it panics.
+pub fn repo_data(rel: &str) -> PathBuf {
+    let shipped = repo().join("data").join(rel);
+    if shipped.is_file() {
+        return shipped;
     }
-    let what = format!("the shared data {}", path.display());
-    let how = "set LEXICLADE_DATA to the shared data directory";
-    if std::env::var_os("CI").is_some() {
-        panic!("outside check cannot run: missing {what}; {how}");
+    let gz = repo().join("data").join(format!("{rel}.gz"));
+    assert!(gz.is_file(), "the repository lacks data/{rel}(.gz)");
+    let out = Path::new(env!("CARGO_TARGET_TMPDIR")).join("data").join(rel);
+    if out.is_file() {
+        return out;
     }
-    eprintln!("skipped: missing {what}; {how}");
-    None
+    std::fs::create_dir_all(out.parent().unwrap()).expect("data cache dir");
+    // Decompress beside the target and rename, so tests running at the
+    // same time never read a half-written file.
+    let tmp = tempfile::NamedTempFile::new_in(out.parent().unwrap())
+        .expect("temporary data file");
+    let mut reader = flate2::read::MultiGzDecoder::new(
+        std::fs::File::open(&gz).expect("open shipped data"),
+    );
+    std::io::copy(&mut reader, &mut tmp.as_file()).expect("decompress data");
+    tmp.persist(&out).expect("rename decompressed data");
+    out
 }
 
 fn missing(what: &str) {

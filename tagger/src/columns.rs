@@ -221,13 +221,19 @@ impl ColumnFile {
     }
 }
 
-/// Reads the column file at `path`; `-` reads standard input.
+/// Reads the column file at `path`; `-` reads standard input, and a name
+/// ending in `.gz` is decompressed on the fly.
 pub fn read_columns(path: &Path) -> Result<ColumnFile> {
     if path.as_os_str() == "-" {
         read_columns_from(io::stdin().lock(), path)
     } else {
         let file = File::open(path).map_err(|e| Error::io(path, e))?;
-        read_columns_from(BufReader::with_capacity(1 << 16, file), path)
+        if path.extension().is_some_and(|ext| ext == "gz") {
+            let gz = flate2::read::MultiGzDecoder::new(BufReader::new(file));
+            read_columns_from(BufReader::with_capacity(1 << 16, gz), path)
+        } else {
+            read_columns_from(BufReader::with_capacity(1 << 16, file), path)
+        }
     }
 }
 
