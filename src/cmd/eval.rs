@@ -60,12 +60,16 @@ const GOLD: Column = match Column::new(-2) {
 /// Runs the command.
 pub fn run(args: Args) -> Result<()> {
     let file = read_columns(&args.pred)?;
+    super::warn_mixed(&file, false);
     let need =
         if args.train.is_some() || args.model.is_some() { 3 } else { 2 };
     for sentence in &file.sentences {
         check_width(sentence, need, need == 3)?;
     }
     let train = args.train.as_deref().map(read_columns).transpose()?;
+    if let Some(train) = &train {
+        super::warn_mixed(train, false);
+    }
     let vocabulary: Option<HashSet<&str>> =
         train.as_ref().map(|t| t.vocabulary(Column::FIRST)).transpose()?;
     let known =

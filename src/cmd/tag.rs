@@ -68,6 +68,7 @@ pub fn run(args: Args) -> Result<()> {
                 tag_plain(&model, input, args.tokenize, &mut work, out)?;
             } else {
                 let file = read_columns(input)?;
+                super::warn_mixed(&file, false);
                 for sentence in &file.sentences {
                     let tokens = sentence.column(args.token_column)?;
                     let labels = model.tag(&tokens, &mut work);
