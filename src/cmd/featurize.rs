@@ -17,9 +17,10 @@ use lexiclade_tagger::columns::{read_columns, Column};
 /// and `w[-2]:start` (a position before the sentence).
 ///
 /// The column files hold one token a line with the token in the first
-/// column (columns are separated by spaces or tabs; the others are
-/// ignored), blank lines between sentences, and `-DOCSTART-` lines,
-/// which are skipped and end a sentence.
+/// column (split on tabs only when every token row holds a tab, so that
+/// a token may hold spaces or be empty, otherwise on runs of spaces and
+/// tabs; the other columns are ignored), blank lines between sentences,
+/// and `-DOCSTART-` lines, which are skipped and end a sentence.
 #[derive(clap::Args)]
 pub struct Args {
     /// Column files, read in order; `-` reads standard input.

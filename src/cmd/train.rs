@@ -15,6 +15,15 @@ use lexiclade_tagger::{
 /// Train a tagger (structured averaged perceptron, Collins 2002, with
 /// Viterbi decoding) on a labeled column file.
 ///
+/// Column files: one token per line with its columns, a blank line (or
+/// one of only spaces and tabs) between sentences, `-DOCSTART-` lines
+/// skipped. When every token row of a file holds a tab, its columns are
+/// split on tabs only, so a token may contain spaces and an empty field
+/// is an empty token; otherwise on runs of spaces and tabs. A file that
+/// mixes rows with and without a tab is split on spaces and tabs, with a
+/// warning naming the lines when tabs alone would have split a row
+/// otherwise.
+///
 /// The model file holds everything needed to tag: the feature config,
 /// the label set and scheme, the weights of the best epoch and, with
 /// --clusters, the path of every clustered word, so that words unseen in
