@@ -351,3 +351,25 @@ fn refit_trains_again_on_train_and_dev_for_the_chosen_epochs() {
     .user_error("--refit needs --dev");
     assert!(!dir.join("x.bin").exists());
 }
+
+/// The shipped WNUT-17 files are tab-separated with a lone tab between
+/// some sentences: read on tabs, with the split's published post counts
+/// (train 3,394, dev 1,009, test 1,287; Derczynski et al. 2017, from
+/// memory) and the token counts `eval` and the README use.
+#[test]
+fn shipped_wnut17_files_read_as_tab_separated() {
+    use lexiclade_tagger::columns::{read_columns, Separator};
+    for (part, sentences, tokens) in [
+        ("train", 3394, 62_730),
+        ("dev", 1009, 15_733),
+        ("test", 1287, 23_394),
+    ] {
+        let path = crate::util::repo_data(&format!("wnut17/{part}.conll"));
+        let file = read_columns(&path).unwrap();
+        assert_eq!(file.separator, Separator::Tab, "{part}");
+        assert_eq!(file.mixed, None, "{part}");
+        assert_eq!(file.sentences.len(), sentences, "{part}");
+        assert_eq!(file.tokens(), tokens, "{part}");
+        assert!(file.sentences.iter().all(|s| s.width() == 2), "{part}");
+    }
+}
