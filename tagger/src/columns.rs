@@ -262,10 +262,12 @@ pub fn read_columns(path: &Path) -> Result<ColumnFile> {
 
 /// Reads a column file from `reader`; `name` is used in messages.
 ///
-/// The file is read once, keeping each sentence's rows as whole lines;
-/// when the whole file has been seen, the separator is chosen
-/// ([`Separator`]) and every sentence's lines are split into cells in
-/// place, so memory stays about the size of the file's token rows.
+/// The file is read once, keeping each sentence's rows as whole lines
+/// (joined by `\n`); when the whole file has been seen, the separator is
+/// chosen ([`Separator`]) and every sentence's lines are split into cells
+/// in place (cells are the lines without their separators, so they fit
+/// in the lines' buffer), so memory stays about the size of the file's
+/// token rows.
 pub fn read_columns_from<R: BufRead>(
     mut reader: R,
     name: &Path,
@@ -275,7 +277,7 @@ pub fn read_columns_from<R: BufRead>(
     let mut current: Option<Sentence> = None;
     let mut buf = Vec::new();
     let mut line: u64 = 0;
-    let mut scan = Scan::default();
+    let (mut with_tab, mut without_tab) = (None, None);
     loop {
         buf.clear();
         let n = reader
@@ -302,14 +304,15 @@ pub fn read_columns_from<R: BufRead>(
         })?;
         // Blank lines and document markers are told apart the same way
         // under either separator, so sentence boundaries are known now.
-        match text.split([' ', '\t']).find(|c| !c.is_empty()) {
-            None | Some(DOCSTART) => {
-                sentences.extend(current.take());
-                continue;
-            }
-            Some(_) => {}
+        if is_blank_or_marker(bytes) {
+            sentences.extend(current.take());
+            continue;
         }
-        scan.row(text, line);
+        if bytes.contains(&b'\t') {
+            with_tab.get_or_insert(line);
+        } else {
+            without_tab.get_or_insert(line);
+        }
         let sentence = current.get_or_insert_with(|| Sentence {
             path: Arc::clone(&path),
             text: String::new(),
@@ -317,23 +320,46 @@ pub fn read_columns_from<R: BufRead>(
             width: 0,
             lines: Vec::new(),
         });
-        // Until the split, `ends` holds the end of each whole line.
+        if !sentence.lines.is_empty() {
+            sentence.text.push('\n');
+        }
         sentence.text.push_str(text);
-        sentence.ends.push(sentence.text.len());
         sentence.lines.push(line);
     }
     sentences.extend(current);
     if sentences.is_empty() {
         return Err(Error::Empty { path: name.to_path_buf() });
     }
-    let separator = scan.separator();
-    let mixed = scan.mixed();
-    let mut cells = String::new();
-    let mut ends = Vec::new();
+    let (separator, mixed) = match (with_tab, without_tab) {
+        (Some(_), None) => (Separator::Tab, None),
+        (Some(with_tab), Some(without_tab)) => {
+            let differs =
+                sentences.iter().find_map(first_tab_row_that_differs);
+            (
+                Separator::Whitespace,
+                Some(MixedLines { without_tab, with_tab, differs }),
+            )
+        }
+        _ => (Separator::Whitespace, None),
+    };
     for sentence in &mut sentences {
-        split_rows(sentence, separator, mixed, &mut cells, &mut ends)?;
+        split_rows(sentence, separator, mixed)?;
     }
     Ok(ColumnFile { path: name.to_path_buf(), sentences, separator, mixed })
+}
+
+/// Whether a line holds only spaces and tabs, or is a document marker
+/// (its first column is [`DOCSTART`]).
+fn is_blank_or_marker(bytes: &[u8]) -> bool {
+    let separator = |b: &u8| *b == b' ' || *b == b'\t';
+    match bytes.iter().position(|b| !separator(b)) {
+        None => true,
+        Some(start) => {
+            let rest = &bytes[start..];
+            rest.strip_prefix(DOCSTART.as_bytes())
+                .is_some_and(|after| after.first().is_none_or(separator))
+        }
+    }
 }
 
 /// How the cells of a row are separated.
@@ -377,83 +403,80 @@ impl fmt::Display for MixedLines {
     }
 }
 
-/// What the reader notes about token rows to choose the separator.
-#[derive(Default)]
-struct Scan {
-    with_tab: Option<u64>,
-    without_tab: Option<u64>,
-    differs: Option<u64>,
+/// The line number of the first row of a sentence (still whole lines)
+/// that holds a tab and would split into other cells on tabs alone than
+/// on runs of spaces and tabs: a cell holding a space, or an empty one.
+fn first_tab_row_that_differs(sentence: &Sentence) -> Option<u64> {
+    sentence.text.split('\n').zip(&sentence.lines).find_map(|(row, &line)| {
+        let differs = row.contains('\t')
+            && (row.contains(' ')
+                || row.starts_with('\t')
+                || row.ends_with('\t')
+                || row.contains("\t\t"));
+        differs.then_some(line)
+    })
 }
 
-impl Scan {
-    fn row(&mut self, text: &str, line: u64) {
-        if text.contains('\t') {
-            self.with_tab.get_or_insert(line);
-            if self.differs.is_none()
-                && (text.contains(' ')
-                    || text.starts_with('\t')
-                    || text.ends_with('\t')
-                    || text.contains("\t\t"))
-            {
-                self.differs = Some(line);
-            }
-        } else {
-            self.without_tab.get_or_insert(line);
-        }
-    }
-
-    fn separator(&self) -> Separator {
-        if self.with_tab.is_some() && self.without_tab.is_none() {
-            Separator::Tab
-        } else {
-            Separator::Whitespace
-        }
-    }
-
-    fn mixed(&self) -> Option<MixedLines> {
-        Some(MixedLines {
-            without_tab: self.without_tab?,
-            with_tab: self.with_tab?,
-            differs: self.differs,
-        })
-    }
-}
-
-/// Splits the whole lines a sentence holds into cells, reusing `cells`
-/// and `ends` as the new buffers, and checks that every row has as many
-/// cells as the first.
+/// Splits the whole lines a sentence holds (joined by `\n`) into cells,
+/// moving each cell's bytes down over the separators before it, and
+/// checks that every row has as many cells as the first.
 fn split_rows(
     sentence: &mut Sentence,
     separator: Separator,
     mixed: Option<MixedLines>,
-    cells: &mut String,
-    ends: &mut Vec<usize>,
 ) -> Result<()> {
-    cells.clear();
+    let mut bytes = std::mem::take(&mut sentence.text).into_bytes();
+    let ends = &mut sentence.ends;
     ends.clear();
-    let mut start = 0;
-    for (row, &end) in sentence.ends.iter().enumerate() {
-        let text = &sentence.text[start..end];
-        start = end;
+    let is_sep = |b: u8| b == b' ' || b == b'\t';
+    let (mut read, mut write) = (0, 0);
+    for (row, &line) in sentence.lines.iter().enumerate() {
         let before = ends.len();
-        let mut push = |cell: &str| {
-            cells.push_str(cell);
-            ends.push(cells.len());
+        let end = bytes[read..]
+            .iter()
+            .position(|&b| b == b'\n')
+            .map_or(bytes.len(), |k| read + k);
+        let mut at = read;
+        let mut push = |from: usize, to: usize, bytes: &mut Vec<u8>| {
+            bytes.copy_within(from..to, write);
+            write += to - from;
+            ends.push(write);
         };
         match separator {
-            Separator::Tab => text.split('\t').for_each(&mut push),
-            Separator::Whitespace => text
-                .split([' ', '\t'])
-                .filter(|c| !c.is_empty())
-                .for_each(&mut push),
+            Separator::Tab => loop {
+                match bytes[at..end].iter().position(|&b| b == b'\t') {
+                    Some(k) => {
+                        push(at, at + k, &mut bytes);
+                        at += k + 1;
+                    }
+                    None => {
+                        push(at, end, &mut bytes);
+                        break;
+                    }
+                }
+            },
+            Separator::Whitespace => loop {
+                while at < end && is_sep(bytes[at]) {
+                    at += 1;
+                }
+                if at == end {
+                    break;
+                }
+                let start = at;
+                while at < end && !is_sep(bytes[at]) {
+                    at += 1;
+                }
+                push(start, at, &mut bytes);
+            },
         }
+        read = end + 1;
         let got = ends.len() - before;
         if row == 0 {
             sentence.width = got;
         } else if got != sentence.width {
             return Err(Error::ColumnCount {
                 path: sentence.path.to_path_buf(),
-                line: sentence.lines[row],
+                line,
                 first_line: sentence.lines[0],
                 expected: sentence.width,
                 got,
@@ -461,12 +484,14 @@ fn split_rows(
             });
         }
     }
-    std::mem::swap(&mut sentence.text, cells);
-    std::mem::swap(&mut sentence.ends, ends);
-    // The swapped-out line buffers are reused for the next sentence;
-    // the sentence keeps no spare capacity.
-    sentence.text.shrink_to_fit();
-    sentence.ends.shrink_to_fit();
+    bytes.truncate(write);
+    // Cells end at ASCII separators, so the bytes stay valid UTF-8; the
+    // check costs little next to reading.
+    sentence.text =
+        String::from_utf8(bytes).map_err(|_| Error::InvalidUtf8 {
+            path: sentence.path.to_path_buf(),
+            line: sentence.lines[0],
+        })?;
     Ok(())
 }
 
@@ -575,6 +600,13 @@ mod tests {
             file.sentences[0].tokens(&spec).unwrap(),
             ["ke s", "", "Moor  Hall"]
         );
+    }
+
+    #[test]
+    fn markers_are_whole_first_columns() {
+        let file =
+            read(b" -DOCSTART-\tO\n-DOCSTART-x O\n\t-DOCSTART-\n").unwrap();
+        assert_eq!(rows(&file), vec![vec![vec!["-DOCSTART-x", "O"]]]);
     }
 
     #[test]
