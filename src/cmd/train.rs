@@ -166,7 +166,7 @@ pub fn run(args: Args) -> Result<()> {
     let bars = Bars::new(args.quiet);
     let bar = bars.steps("epoch 1", train.len() as u64, "sentences");
     let (quiet, epochs, refit) = (args.quiet, args.epochs, args.refit);
-    let mut best_dev: Option<(f64, usize)> = None;
+    let mut best_dev: Option<f64> = None;
     let mut model = TaggerModel::train(
         &train,
         dev.as_deref(),
@@ -180,8 +180,8 @@ pub fn run(args: Args) -> Result<()> {
                 .map_or(String::new(), |s| format!(", dev {:.2}", 100.0 * s));
             if let Some(score) = report.dev_score {
                 // Strictly better only, as the trainer chooses.
-                if best_dev.is_none_or(|(b, _)| score > b) {
-                    best_dev = Some((score, report.epoch));
+                if best_dev.is_none_or(|b| score > b) {
+                    best_dev = Some(score);
                 }
             }
             let stage = if report.refit { "refit epoch" } else { "epoch" };
@@ -212,7 +212,7 @@ pub fn run(args: Args) -> Result<()> {
     file.commit()?;
     if !args.quiet {
         let epoch = match (args.refit, best_dev) {
-            (true, Some((score, _))) => format!(
+            (true, Some(score)) => format!(
                 "epoch {} chosen on dev ({:.2}), refit on train+dev for {} \
                  epochs",
                 model.best_epoch,
