@@ -191,6 +191,7 @@ pub fn run(
             alpha: 0.05,
             baseline: None,
             prune: params.prune,
+            refit: false,
         },
     };
     experiment.check()?;

@@ -218,3 +218,55 @@ fn feature_sets_can_compare_cluster_directories() {
     )
     .user_error("greedy clusters");
 }
+
+/// `training.refit = true` runs what `train --refit` does: on the whole
+/// training file, one seed, the run's test score equals scoring a
+/// `train --refit` model by hand; the summary records the option.
+#[test]
+fn refit_runs_match_train_refit() {
+    let dir = setup();
+    let exp = dir
+        .read("exp.toml")
+        .replace("sizes = [25, 50]", "refit = true")
+        .replace("seeds = [1, 2]", "seeds = [4]");
+    dir.write("refit.toml", exp);
+    lexiclade(
+        dir.path(),
+        &["ablate", "--config", "refit.toml", "--out", "r", "-q"],
+    )
+    .ok();
+    let runs = rows(&dir, "r");
+    let run = runs.iter().find(|r| r[0] == "no clusters").unwrap();
+    assert_eq!(run[1], "200");
+    let summary: serde_json::Value =
+        serde_json::from_str(&dir.read("r/summary.json")).unwrap();
+    assert_eq!(summary["refit"], true);
+
+    let run_cli = |args: &[&str]| lexiclade(dir.path(), args).ok();
+    let trained = run_cli(&[
+        "train",
+        "--train",
+        "train.conll",
+        "--dev",
+        "dev.conll",
+        "--model",
+        "m.bin",
+        "--config",
+        "ner-no-clusters.toml",
+        "--epochs",
+        "3",
+        "--seed",
+        "4",
+        "--no-prune",
+        "--refit",
+    ]);
+    let chosen = format!("epoch {} chosen on dev", run[9]);
+    assert!(trained.stderr.contains(&chosen), "{}", trained.stderr);
+    run_cli(&["tag", "--model", "m.bin", "test.conll", "--out", "p.conll"]);
+    let eval = run_cli(&["eval", "p.conll", "--json"]);
+    let report: serde_json::Value =
+        serde_json::from_str(&eval.stdout).unwrap();
+    let f1 = report["overall"]["f1"].as_f64().unwrap();
+    let score: f64 = run[5].parse().unwrap();
+    assert!((f1 - score).abs() < 1e-6, "ablate {score} vs train --refit {f1}");
+}

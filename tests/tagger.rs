@@ -165,3 +165,211 @@ fn bad_models_and_inputs_are_one_line_errors() {
     .user_error("would overwrite the input");
     assert!(!dir.join("n.bin").exists());
 }
+
+/// A tab-separated file as some public corpora publish it: tokens holding
+/// spaces (`ke s`), rows with an empty token, and sentences ended by a
+/// line holding only a tab. It trains, and `tag` writes every row back
+/// unchanged with the label after a tab.
+#[test]
+fn tab_separated_files_are_read_as_they_are() {
+    let dir = setup();
+    let mut text = dir.read("train.conll").replace("\n\n", "\n\t\n");
+    text.push_str("ke s\tO\nat\tO\n\tO\nHeron\tB-VESSEL\n\t\n");
+    text.push_str("\tO\nMoor  Hall\tB-PLACE\n\t\n");
+    dir.write("public.conll", &text);
+    let trained = lexiclade(
+        dir.path(),
+        &[
+            "train",
+            "--train",
+            "public.conll",
+            "--model",
+            "m.bin",
+            "--epochs",
+            "2",
+        ],
+    )
+    .ok();
+    assert!(!trained.stderr.contains("warning"), "{}", trained.stderr);
+    let test = "ke s\tO\n\tO\nMoor  Hall\tB-PLACE\n\t\n-DOCSTART-\n\nHeron\tB-VESSEL\n";
+    dir.write("t.conll", test);
+    let run =
+        lexiclade(dir.path(), &["tag", "--model", "m.bin", "t.conll"]).ok();
+    let rows: Vec<&str> = test
+        .lines()
+        .filter(|l| !l.trim().is_empty() && !l.starts_with("-DOCSTART-"))
+        .collect();
+    let out: Vec<&str> =
+        run.stdout.lines().filter(|l| !l.is_empty()).collect();
+    assert_eq!(out.len(), rows.len(), "{}", run.stdout);
+    for (got, row) in out.iter().zip(&rows) {
+        let (cells, label) = got.rsplit_once('\t').unwrap();
+        assert_eq!(cells, *row, "a row changed on its way through tag");
+        assert!(!label.is_empty());
+    }
+    // The output is tab-separated too: it reads back with the same cells,
+    // and eval scores it (the empty token is a token like any other).
+    dir.write("p.conll", &run.stdout);
+    let eval = lexiclade(dir.path(), &["eval", "p.conll", "--json"]).ok();
+    let report: serde_json::Value =
+        serde_json::from_str(&eval.stdout).unwrap();
+    assert_eq!(report["tokens"], 4, "{}", eval.stdout);
+    // featurize keeps the token whole, and the empty one.
+    let config = crate::util::repo().join("configs/ner-no-clusters.toml");
+    let features = lexiclade(
+        dir.path(),
+        &["featurize", "--config", config.to_str().unwrap(), "t.conll"],
+    )
+    .ok();
+    let lines: Vec<&str> = features.stdout.lines().collect();
+    assert!(lines[0].starts_with("ke s\tbias\tw=ke s\t"), "{}", lines[0]);
+    assert!(lines[1].starts_with("\tbias\t"), "{}", lines[1]);
+}
+
+/// One row without a tab in an otherwise tab-separated file: whitespace
+/// splitting, and both lines named when that breaks the file or changes
+/// what is read.
+#[test]
+fn mixed_tab_and_space_files_name_the_lines() {
+    let dir = setup();
+    dir.write("broken.conll", "ke s\tO\nHeron B-VESSEL\n\n");
+    lexiclade(
+        dir.path(),
+        &["train", "--train", "broken.conll", "--model", "m.bin", "-q"],
+    )
+    .user_error(
+        "broken.conll:2: 2 columns, but the sentence's first row (line 1) \
+         has 3 (columns split on spaces and tabs because line 2 has no tab \
+         while line 1 has one)",
+    );
+    assert!(!dir.join("m.bin").exists());
+    // Parses on whitespace, but line 3 would split otherwise on tabs:
+    // a warning names it; -q silences it.
+    let mut text = dir.read("train.conll");
+    text.push_str("ke s\tO\n\nHeron B-VESSEL\n\n");
+    dir.write("mixed.conll", &text);
+    // The last line is blank; Heron's is before it, `ke s` two above.
+    let heron = text.lines().count() - 1;
+    let run = lexiclade(
+        dir.path(),
+        &[
+            "train",
+            "--train",
+            "mixed.conll",
+            "--model",
+            "m.bin",
+            "--epochs",
+            "1",
+        ],
+    )
+    .ok();
+    let want = format!(
+        "lexiclade: warning: mixed.conll: columns split on spaces and tabs \
+         because line {} has no tab while line 1 has one; line {} would \
+         split differently on tabs alone",
+        heron,
+        heron - 2
+    );
+    assert!(run.stderr.contains(&want), "{}", run.stderr);
+    let quiet = lexiclade(
+        dir.path(),
+        &["train", "--train", "mixed.conll", "--model", "q.bin", "-q"],
+    )
+    .ok();
+    assert_eq!(quiet.stderr, "");
+    // A trailing tab makes an empty last column: an empty label is
+    // refused with its line.
+    dir.write("trailing.conll", "a\tO\t\nb\tO\t\n");
+    lexiclade(
+        dir.path(),
+        &["train", "--train", "trailing.conll", "--model", "t.bin", "-q"],
+    )
+    .user_error("trailing.conll:1: the label (column -1) is empty");
+}
+
+#[test]
+fn refit_trains_again_on_train_and_dev_for_the_chosen_epochs() {
+    let dir = Dir::new();
+    // Unseen words in dev, so that train and train+dev models differ.
+    dir.write("train.conll", lexiclade::demo::labeled(200, 1, 0.5));
+    dir.write("dev.conll", lexiclade::demo::labeled(80, 2, 1.0));
+    let train = |model: &str, extra: &[&str]| {
+        let mut args = vec!["train", "--model", model, "--seed", "3"];
+        args.extend(extra);
+        lexiclade(dir.path(), &args).ok()
+    };
+    let both =
+        ["--train", "train.conll", "--dev", "dev.conll", "--epochs", "5"];
+    let plain = train("plain.bin", &both);
+    let refit = train("refit.bin", &[&both[..], &["--refit"]].concat());
+    let summary = refit.stderr.lines().last().unwrap();
+    let chosen: String = summary
+        .split("epoch ")
+        .nth(1)
+        .unwrap()
+        .chars()
+        .take_while(char::is_ascii_digit)
+        .collect();
+    assert!(
+        summary.contains(&format!("epoch {chosen} chosen on dev (",))
+            && summary
+                .contains(&format!("refit on train+dev for {chosen} epochs")),
+        "{summary}"
+    );
+    assert!(
+        plain.stderr.contains(&format!("best epoch {chosen};")),
+        "{}",
+        plain.stderr
+    );
+    assert_eq!(
+        refit.stderr.matches("lexiclade: refit epoch").count(),
+        chosen.parse::<usize>().unwrap(),
+        "{}",
+        refit.stderr
+    );
+    // By hand: the two files joined, the chosen epochs, no dev.
+    let joined = dir.read("train.conll") + "\n" + &dir.read("dev.conll");
+    dir.write("joined.conll", joined);
+    train("hand.bin", &["--train", "joined.conll", "--epochs", &chosen, "-q"]);
+    let again = train("again.bin", &[&both[..], &["--refit", "-q"]].concat());
+    assert_eq!(again.stderr, "");
+    let bytes = |m: &str| std::fs::read(dir.join(m)).unwrap();
+    assert!(
+        bytes("refit.bin") == bytes("hand.bin"),
+        "refit is not train+dev by hand"
+    );
+    assert!(
+        bytes("refit.bin") == bytes("again.bin"),
+        "same seed, other bytes"
+    );
+    assert!(bytes("refit.bin") != bytes("plain.bin"), "refit changed nothing");
+
+    lexiclade(
+        dir.path(),
+        &["train", "--train", "train.conll", "--model", "x.bin", "--refit"],
+    )
+    .user_error("--refit needs --dev");
+    assert!(!dir.join("x.bin").exists());
+}
+
+/// The shipped WNUT-17 files are tab-separated with a lone tab between
+/// some sentences: read on tabs, with the split's published post counts
+/// (train 3,394, dev 1,009, test 1,287; Derczynski et al. 2017, from
+/// memory) and the token counts `eval` and the README use.
+#[test]
+fn shipped_wnut17_files_read_as_tab_separated() {
+    use lexiclade_tagger::columns::{read_columns, Separator};
+    for (part, sentences, tokens) in [
+        ("train", 3394, 62_730),
+        ("dev", 1009, 15_733),
+        ("test", 1287, 23_394),
+    ] {
+        let path = crate::util::repo_data(&format!("wnut17/{part}.conll"));
+        let file = read_columns(&path).unwrap();
+        assert_eq!(file.separator, Separator::Tab, "{part}");
+        assert_eq!(file.mixed, None, "{part}");
+        assert_eq!(file.sentences.len(), sentences, "{part}");
+        assert_eq!(file.tokens(), tokens, "{part}");
+        assert!(file.sentences.iter().all(|s| s.width() == 2), "{part}");
+    }
+}

@@ -20,6 +20,10 @@ use lexiclade::{
 /// saving), savings.csv, learning-curve.svg and prefixes.svg. It is
 /// written under a temporary name and renamed at the end. A failed run is
 /// reported and recorded, the others go on, and the exit code is then 1.
+///
+/// With `refit = true` in the config's `[training]`, each run chooses its
+/// epoch count on the development file and then trains afresh on its
+/// training subset plus the whole development file, as `train --refit`.
 #[derive(clap::Args)]
 pub struct Args {
     /// The experiment config (TOML; see configs/ablate-prefixes.toml and

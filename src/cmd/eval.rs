@@ -14,8 +14,10 @@ use lexiclade_tagger::{
 /// Score predicted labels against gold labels: chunk-level precision,
 /// recall and F1 per type and overall, and token accuracy.
 ///
-/// PRED is a column file: one token per line, columns separated by spaces
-/// or tabs, a blank line between sentences, `-DOCSTART-` lines skipped.
+/// PRED is a column file: one token per line, a blank line between
+/// sentences, `-DOCSTART-` lines skipped; columns are split on tabs only
+/// when every token row holds a tab (tokens may then hold spaces or be
+/// empty), otherwise on runs of spaces and tabs.
 /// The second-to-last column is the gold label, the last the predicted
 /// one; the first column is the token when there are at least three. A
 /// chunk counts as correct only with exactly the gold boundaries and
@@ -60,12 +62,16 @@ const GOLD: Column = match Column::new(-2) {
 /// Runs the command.
 pub fn run(args: Args) -> Result<()> {
     let file = read_columns(&args.pred)?;
+    super::warn_mixed(&file, false);
     let need =
         if args.train.is_some() || args.model.is_some() { 3 } else { 2 };
     for sentence in &file.sentences {
         check_width(sentence, need, need == 3)?;
     }
     let train = args.train.as_deref().map(read_columns).transpose()?;
+    if let Some(train) = &train {
+        super::warn_mixed(train, false);
+    }
     let vocabulary: Option<HashSet<&str>> =
         train.as_ref().map(|t| t.vocabulary(Column::FIRST)).transpose()?;
     let known =

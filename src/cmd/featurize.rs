@@ -17,9 +17,10 @@ use lexiclade_tagger::columns::{read_columns, Column};
 /// and `w[-2]:start` (a position before the sentence).
 ///
 /// The column files hold one token a line with the token in the first
-/// column (columns are separated by spaces or tabs; the others are
-/// ignored), blank lines between sentences, and `-DOCSTART-` lines,
-/// which are skipped and end a sentence.
+/// column (split on tabs only when every token row holds a tab, so that
+/// a token may hold spaces or be empty, otherwise on runs of spaces and
+/// tabs; the other columns are ignored), blank lines between sentences,
+/// and `-DOCSTART-` lines, which are skipped and end a sentence.
 #[derive(clap::Args)]
 pub struct Args {
     /// Column files, read in order; `-` reads standard input.
@@ -83,7 +84,7 @@ pub fn run(args: Args) -> Result<()> {
     };
     let Some(out) = out else {
         let mut w = lexiclade::atomic::standard_output();
-        featurize(&extractor, &args.inputs, &mut w)?;
+        featurize(&extractor, &args.inputs, args.quiet, &mut w)?;
         w.flush()?;
         return Ok(());
     };
@@ -100,7 +101,7 @@ pub fn run(args: Args) -> Result<()> {
     lexiclade::atomic::refuse_overlap(&read, out)?;
     let mut file = AtomicFile::create(out, args.force)?;
     let (sentences, tokens) =
-        featurize(&extractor, &args.inputs, file.writer())?;
+        featurize(&extractor, &args.inputs, args.quiet, file.writer())?;
     file.commit()?;
     if !args.quiet {
         eprintln!(
@@ -116,12 +117,14 @@ pub fn run(args: Args) -> Result<()> {
 fn featurize(
     extractor: &Extractor,
     inputs: &[PathBuf],
+    quiet: bool,
     w: &mut dyn Write,
 ) -> Result<(u64, u64)> {
     let mut features = Features::new();
     let (mut sentences, mut tokens_seen) = (0, 0);
     for input in inputs {
         let file = read_columns(input)?;
+        super::warn_mixed(&file, quiet);
         for sentence in &file.sentences {
             let tokens = sentence.column(Column::FIRST)?;
             extractor.extract(&tokens, &mut features);

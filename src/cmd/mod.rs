@@ -12,6 +12,19 @@ pub mod show;
 pub mod tag;
 pub mod train;
 
+/// Warns on standard error, unless `quiet`, when a column file mixes
+/// rows with and without a tab in a way that matters: it was split on
+/// spaces and tabs, and some row would have split otherwise on tabs
+/// alone (a token holding a space, an empty cell). The lines of both are
+/// named.
+pub fn warn_mixed(file: &lexiclade_tagger::columns::ColumnFile, quiet: bool) {
+    if let Some(mixed) = file.mixed.filter(|m| m.differs.is_some()) {
+        if !quiet {
+            eprintln!("lexiclade: warning: {}: {mixed}", file.path.display());
+        }
+    }
+}
+
 /// Marks a failure of lexiclade itself rather than of its input: the
 /// command exits with code 1 instead of 2.
 #[derive(Debug)]

@@ -16,7 +16,10 @@ use lexiclade_tagger::{
 /// Tag text with a model written by `lexiclade train`.
 ///
 /// For column files, writes every input column and the predicted label
-/// as a last column, tab-separated, a blank line between sentences; with
+/// as a last column, tab-separated, a blank line between sentences. A
+/// file whose every token row holds a tab is split on tabs only (tokens
+/// may hold spaces or be empty, and come back unchanged); other files on
+/// runs of spaces and tabs (see `train --help`). With
 /// --plain, reads one sentence per line and writes the token and its
 /// label per line.
 #[derive(clap::Args)]
@@ -68,6 +71,7 @@ pub fn run(args: Args) -> Result<()> {
                 tag_plain(&model, input, args.tokenize, &mut work, out)?;
             } else {
                 let file = read_columns(input)?;
+                super::warn_mixed(&file, false);
                 for sentence in &file.sentences {
                     let tokens = sentence.column(args.token_column)?;
                     let labels = model.tag(&tokens, &mut work);

@@ -15,6 +15,15 @@ use lexiclade_tagger::{
 /// Train a tagger (structured averaged perceptron, Collins 2002, with
 /// Viterbi decoding) on a labeled column file.
 ///
+/// Column files: one token per line with its columns, a blank line (or
+/// one of only spaces and tabs) between sentences, `-DOCSTART-` lines
+/// skipped. When every token row of a file holds a tab, its columns are
+/// split on tabs only, so a token may contain spaces and an empty field
+/// is an empty token; otherwise on runs of spaces and tabs. A file that
+/// mixes rows with and without a tab is split on spaces and tabs, with a
+/// warning naming the lines when tabs alone would have split a row
+/// otherwise.
+///
 /// The model file holds everything needed to tag: the feature config,
 /// the label set and scheme, the weights of the best epoch and, with
 /// --clusters, the path of every clustered word, so that words unseen in
@@ -40,9 +49,16 @@ pub struct Args {
     /// defaults, which equal configs/ner.toml.
     #[arg(long, value_name = "C")]
     config: Option<PathBuf>,
-    /// Passes over the training sentences.
+    /// Passes over the training sentences (with --dev: the most tried).
     #[arg(long, default_value_t = 10, value_name = "N")]
     epochs: usize,
+    /// After choosing the epoch count on --dev (required), train afresh
+    /// on the training sentences followed by the development sentences
+    /// for that many epochs, with the same seed, and save that model
+    /// (the same model as `train` on a file holding both, with --epochs
+    /// set to the chosen count and no --dev).
+    #[arg(long)]
+    refit: bool,
     /// Seed of the shuffling before each epoch; the same seed gives the
     /// same model.
     #[arg(long, default_value_t = 1, value_name = "S")]
@@ -79,12 +95,15 @@ pub struct Args {
     quiet: bool,
 }
 
-/// Reads the labeled sentences of a column file.
+/// Reads the labeled sentences of a column file, warning (unless
+/// `quiet`) when its rows mix tabs and spaces in a way that matters.
 pub fn read_labeled(
     path: &std::path::Path,
     spec: &ColumnSpec,
+    quiet: bool,
 ) -> Result<Vec<Labeled>> {
     let file = read_columns(path)?;
+    super::warn_mixed(&file, quiet);
     file.sentences
         .iter()
         .map(|s| {
@@ -122,9 +141,18 @@ pub fn run(args: Args) -> Result<()> {
     {
         eprintln!("lexiclade: notice: the config turns cluster features off; --clusters is unused");
     }
-    let train = read_labeled(&args.train, &spec)?;
-    let dev =
-        args.dev.as_deref().map(|d| read_labeled(d, &spec)).transpose()?;
+    if args.refit && args.dev.is_none() {
+        bail!(
+            "--refit needs --dev: the epoch count to refit with is chosen \
+             on the development file"
+        );
+    }
+    let train = read_labeled(&args.train, &spec, args.quiet)?;
+    let dev = args
+        .dev
+        .as_deref()
+        .map(|d| read_labeled(d, &spec, args.quiet))
+        .transpose()?;
     if args.epochs == 0 {
         bail!("--epochs must be at least 1");
     }
@@ -133,10 +161,12 @@ pub fn run(args: Args) -> Result<()> {
         seed: args.seed,
         prune: !args.no_prune,
         scheme: args.scheme,
+        refit: args.refit,
     };
     let bars = Bars::new(args.quiet);
     let bar = bars.steps("epoch 1", train.len() as u64, "sentences");
-    let quiet = args.quiet;
+    let (quiet, epochs, refit) = (args.quiet, args.epochs, args.refit);
+    let mut best_dev: Option<f64> = None;
     let mut model = TaggerModel::train(
         &train,
         dev.as_deref(),
@@ -148,8 +178,15 @@ pub fn run(args: Args) -> Result<()> {
             let dev = report
                 .dev_score
                 .map_or(String::new(), |s| format!(", dev {:.2}", 100.0 * s));
+            if let Some(score) = report.dev_score {
+                // Strictly better only, as the trainer chooses.
+                if best_dev.is_none_or(|b| score > b) {
+                    best_dev = Some(score);
+                }
+            }
+            let stage = if report.refit { "refit epoch" } else { "epoch" };
             let line = format!(
-                "epoch {}: {:.0} tokens/s, {} mistakes{}",
+                "{stage} {}: {:.0} tokens/s, {} mistakes{}",
                 report.epoch, report.tokens_per_second, report.mistakes, dev
             );
             if bars.visible() {
@@ -157,7 +194,12 @@ pub fn run(args: Args) -> Result<()> {
             } else if !quiet {
                 eprintln!("lexiclade: {line}");
             }
-            bar.set_prefix(format!("epoch {}", report.epoch + 1));
+            let next = if !report.refit && report.epoch == epochs && refit {
+                "refit epoch 1".to_string()
+            } else {
+                format!("{stage} {}", report.epoch + 1)
+            };
+            bar.set_prefix(next);
             bar.set_position(0);
         },
     )?;
@@ -169,12 +211,21 @@ pub fn run(args: Args) -> Result<()> {
     file.writer().write_all(&lexiclade_tagger::model::encode(&model))?;
     file.commit()?;
     if !args.quiet {
+        let epoch = match (args.refit, best_dev) {
+            (true, Some(score)) => format!(
+                "epoch {} chosen on dev ({:.2}), refit on train+dev for {} \
+                 epochs",
+                model.best_epoch,
+                100.0 * score,
+                model.best_epoch
+            ),
+            _ => format!("best epoch {}", model.best_epoch),
+        };
         eprintln!(
-            "lexiclade: {} labels ({}), {} features, best epoch {}; wrote {}",
+            "lexiclade: {} labels ({}), {} features, {epoch}; wrote {}",
             model.labels.len(),
             model.scheme,
             model.features.len(),
-            model.best_epoch,
             args.model.display()
         );
     }

@@ -146,6 +146,13 @@ pub struct Training {
     /// of their features are no longer trained by them.
     #[serde(default = "yes")]
     pub prune: bool,
+    /// Refit every run (default false): choose the epoch count on the
+    /// development file, then train afresh on the run's training subset
+    /// followed by the whole development file for that many epochs, as
+    /// `train --refit` does. Every size of a learning curve then also
+    /// trains on all of the development sentences.
+    #[serde(default)]
+    pub refit: bool,
 }
 
 fn yes() -> bool {
@@ -179,6 +186,7 @@ impl Default for Training {
             alpha: alpha(),
             baseline: None,
             prune: true,
+            refit: false,
         }
     }
 }
@@ -313,7 +321,11 @@ mod tests {
         assert_eq!(exp.training.seeds, vec![1, 2, 3]);
         assert_eq!((exp.training.epochs, exp.training.rounds), (10, 10_000));
         assert!(exp.training.all);
+        assert!(!exp.training.refit, "refit is off by default");
         assert_eq!(exp.features[1].prefixes, Some(vec![4]));
+        let on = SMALL.replace("sizes = [100, 200]", "refit = true");
+        let exp: Experiment = toml::from_str(&on).unwrap();
+        assert!(exp.training.refit);
         assert_eq!(exp.baseline(), 0);
     }
 

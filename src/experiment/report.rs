@@ -34,6 +34,7 @@ pub fn write_summary_json(
         "baseline": exp.features[exp.baseline()].name,
         "features": exp.features.iter().map(|f| f.name.clone()).collect::<Vec<_>>(),
         "seeds": exp.training.seeds,
+        "refit": exp.training.refit,
         "runs": runs.len(),
         "failed": runs.iter().filter(|r| r.error.is_some()).count(),
         "version": crate::VERSION,

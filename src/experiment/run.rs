@@ -91,8 +91,11 @@ pub fn prepare(
         label: Column::new(exp.data.label_column)
             .context("data.label_column is 0")?,
     };
-    let read = |path: &Path| -> Result<Vec<Labeled>> {
+    let mut read = |path: &Path| -> Result<Vec<Labeled>> {
         let file = read_columns(path)?;
+        if let Some(mixed) = file.mixed.filter(|m| m.differs.is_some()) {
+            notice(&format!("warning: {}: {mixed}", path.display()));
+        }
         file.sentences
             .iter()
             .map(|s| {
@@ -310,6 +313,7 @@ fn run_into(
         seed: c.seed,
         prune: exp.training.prune,
         scheme: Some(data.scheme),
+        refit: exp.training.refit,
     };
     let started = Instant::now();
     let mut dev_best = 0.0f64;
@@ -326,8 +330,11 @@ fn run_into(
     out.dev_score = dev_best;
     out.best_epoch = model.best_epoch;
 
+    // The words the model was trained on: a refit trains on dev too.
+    let dev: &[Labeled] = if exp.training.refit { &data.dev } else { &[] };
     let known: HashSet<&str> = train
         .iter()
+        .chain(dev)
         .flat_map(|s| s.tokens.iter().map(String::as_str))
         .collect();
     let model_paths = model.extractor.paths();

@@ -1,10 +1,19 @@
 //! Column files: the plain format sequence-labelling data comes in. Each
-//! line is one token row of columns separated by runs of spaces or tabs
-//! (a token, perhaps other annotations, then labels), a blank line (or one
-//! holding only spaces and tabs) ends a sentence, and a line whose first
-//! column is `-DOCSTART-` is a document marker: it is skipped and ends the
-//! sentence too. CRLF line ends, a leading UTF-8 byte-order mark and a
-//! missing final newline are accepted; lines may be of any length.
+//! line is one token row of columns (a token, perhaps other annotations,
+//! then labels), a blank line (or one holding only spaces and tabs) ends
+//! a sentence, and a line whose first column is `-DOCSTART-` is a
+//! document marker: it is skipped and ends the sentence too. CRLF line
+//! ends, a leading UTF-8 byte-order mark and a missing final newline are
+//! accepted; lines may be of any length.
+//!
+//! How a row splits into columns is decided for the whole file
+//! ([`Separator`]): when every token row holds a tab, columns are split
+//! on tabs only, so a token may contain spaces and an empty field is an
+//! empty token (tab-separated files as they are published); otherwise
+//! runs of spaces and tabs separate columns. Blank lines and document
+//! markers do not count in this choice. A file that mixes rows with and
+//! without a tab is split on whitespace, and [`ColumnFile::mixed`] names
+//! the first row of each kind, so that callers can warn when it matters.
 //!
 //! Every row of a sentence must have as many columns as its first row.
 //! Columns are named by [`Column`]: 1-based, negative counting from the
@@ -189,9 +198,19 @@ impl Sentence {
         self.column(spec.token)
     }
 
-    /// The labels: the cells of `spec.label`.
+    /// The labels: the cells of `spec.label`; an error naming the file
+    /// and line when a label is empty (possible only in a tab-separated
+    /// file, e.g. from a trailing tab).
     pub fn labels(&self, spec: &ColumnSpec) -> Result<Vec<&str>> {
-        self.column(spec.label)
+        let labels = self.column(spec.label)?;
+        if let Some(row) = labels.iter().position(|l| l.is_empty()) {
+            return Err(Error::EmptyLabel {
+                path: self.path.to_path_buf(),
+                line: self.lines[row],
+                column: spec.label.get(),
+            });
+        }
+        Ok(labels)
     }
 }
 
@@ -202,6 +221,10 @@ pub struct ColumnFile {
     pub path: PathBuf,
     /// The sentences in file order; never empty.
     pub sentences: Vec<Sentence>,
+    /// How the rows were split into cells.
+    pub separator: Separator,
+    /// Where the file mixes rows with and without a tab, if it does.
+    pub mixed: Option<MixedLines>,
 }
 
 impl ColumnFile {
@@ -238,6 +261,13 @@ pub fn read_columns(path: &Path) -> Result<ColumnFile> {
 }
 
 /// Reads a column file from `reader`; `name` is used in messages.
+///
+/// The file is read once, keeping each sentence's rows as whole lines
+/// (joined by `\n`); when the whole file has been seen, the separator is
+/// chosen ([`Separator`]) and every sentence's lines are split into cells
+/// in place (cells are the lines without their separators, so they fit
+/// in the lines' buffer), so memory stays about the size of the file's
+/// token rows.
 pub fn read_columns_from<R: BufRead>(
     mut reader: R,
     name: &Path,
@@ -247,6 +277,7 @@ pub fn read_columns_from<R: BufRead>(
     let mut current: Option<Sentence> = None;
     let mut buf = Vec::new();
     let mut line: u64 = 0;
+    let (mut with_tab, mut without_tab) = (None, None);
     loop {
         buf.clear();
         let n = reader
@@ -271,18 +302,17 @@ pub fn read_columns_from<R: BufRead>(
         let text = std::str::from_utf8(bytes).map_err(|_| {
             Error::InvalidUtf8 { path: name.to_path_buf(), line }
         })?;
-        let mut cells = text.split([' ', '\t']).filter(|c| !c.is_empty());
-        let first = match cells.next() {
-            None => {
-                sentences.extend(current.take());
-                continue;
-            }
-            Some(DOCSTART) => {
-                sentences.extend(current.take());
-                continue;
-            }
-            Some(first) => first,
-        };
+        // Blank lines and document markers are told apart the same way
+        // under either separator, so sentence boundaries are known now.
+        if is_blank_or_marker(bytes) {
+            sentences.extend(current.take());
+            continue;
+        }
+        if bytes.contains(&b'\t') {
+            with_tab.get_or_insert(line);
+        } else {
+            without_tab.get_or_insert(line);
+        }
         let sentence = current.get_or_insert_with(|| Sentence {
             path: Arc::clone(&path),
             text: String::new(),
@@ -290,30 +320,179 @@ pub fn read_columns_from<R: BufRead>(
             width: 0,
             lines: Vec::new(),
         });
-        let before = sentence.ends.len();
-        for cell in std::iter::once(first).chain(cells) {
-            sentence.text.push_str(cell);
-            sentence.ends.push(sentence.text.len());
+        if !sentence.lines.is_empty() {
+            sentence.text.push('\n');
         }
-        let got = sentence.ends.len() - before;
-        if sentence.lines.is_empty() {
-            sentence.width = got;
-        } else if got != sentence.width {
-            return Err(Error::ColumnCount {
-                path: name.to_path_buf(),
-                line,
-                first_line: sentence.lines[0],
-                expected: sentence.width,
-                got,
-            });
-        }
+        sentence.text.push_str(text);
         sentence.lines.push(line);
     }
     sentences.extend(current);
     if sentences.is_empty() {
         return Err(Error::Empty { path: name.to_path_buf() });
     }
-    Ok(ColumnFile { path: name.to_path_buf(), sentences })
+    let (separator, mixed) = match (with_tab, without_tab) {
+        (Some(_), None) => (Separator::Tab, None),
+        (Some(with_tab), Some(without_tab)) => {
+            let differs =
+                sentences.iter().find_map(first_tab_row_that_differs);
+            (
+                Separator::Whitespace,
+                Some(MixedLines { without_tab, with_tab, differs }),
+            )
+        }
+        _ => (Separator::Whitespace, None),
+    };
+    for sentence in &mut sentences {
+        split_rows(sentence, separator, mixed)?;
+    }
+    Ok(ColumnFile { path: name.to_path_buf(), sentences, separator, mixed })
+}
+
+/// Whether a line holds only spaces and tabs, or is a document marker
+/// (its first column is [`DOCSTART`]).
+fn is_blank_or_marker(bytes: &[u8]) -> bool {
+    let separator = |b: &u8| *b == b' ' || *b == b'\t';
+    match bytes.iter().position(|b| !separator(b)) {
+        None => true,
+        Some(start) => {
+            let rest = &bytes[start..];
+            rest.strip_prefix(DOCSTART.as_bytes())
+                .is_some_and(|after| after.first().is_none_or(separator))
+        }
+    }
+}
+
+/// How the cells of a row are separated.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Separator {
+    /// Every token row of the file holds a tab: each tab ends a cell, so
+    /// a cell may hold spaces or be empty (an empty token).
+    Tab,
+    /// Runs of spaces and tabs separate cells; cells are never empty.
+    Whitespace,
+}
+
+/// In a file whose token rows hold a tab on some lines and not on
+/// others (split on whitespace), the lines that show it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct MixedLines {
+    /// The first token row without a tab.
+    pub without_tab: u64,
+    /// The first token row with a tab.
+    pub with_tab: u64,
+    /// The first row with a tab whose cells would differ if split on
+    /// tabs alone (a cell holding a space, or an empty cell), if any:
+    /// the row the choice of separator changes.
+    pub differs: Option<u64>,
+}
+
+impl fmt::Display for MixedLines {
+    /// Why the file was split on whitespace, and what that changed: one
+    /// clause for a warning.
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "columns split on spaces and tabs because line {} has no tab \
+             while line {} has one",
+            self.without_tab, self.with_tab
+        )?;
+        if let Some(line) = self.differs {
+            write!(f, "; line {line} would split differently on tabs alone")?;
+        }
+        Ok(())
+    }
+}
+
+/// The line number of the first row of a sentence (still whole lines)
+/// that holds a tab and would split into other cells on tabs alone than
+/// on runs of spaces and tabs: a cell holding a space, or an empty one.
+fn first_tab_row_that_differs(sentence: &Sentence) -> Option<u64> {
+    sentence.text.split('\n').zip(&sentence.lines).find_map(|(row, &line)| {
+        let differs = row.contains('\t')
+            && (row.contains(' ')
+                || row.starts_with('\t')
+                || row.ends_with('\t')
+                || row.contains("\t\t"));
+        differs.then_some(line)
+    })
+}
+
+/// Splits the whole lines a sentence holds (joined by `\n`) into cells,
+/// moving each cell's bytes down over the separators before it, and
+/// checks that every row has as many cells as the first.
+fn split_rows(
+    sentence: &mut Sentence,
+    separator: Separator,
+    mixed: Option<MixedLines>,
+) -> Result<()> {
+    let mut bytes = std::mem::take(&mut sentence.text).into_bytes();
+    let ends = &mut sentence.ends;
+    ends.clear();
+    let is_sep = |b: u8| b == b' ' || b == b'\t';
+    let (mut read, mut write) = (0, 0);
+    for (row, &line) in sentence.lines.iter().enumerate() {
+        let before = ends.len();
+        let end = bytes[read..]
+            .iter()
+            .position(|&b| b == b'\n')
+            .map_or(bytes.len(), |k| read + k);
+        let mut at = read;
+        let mut push = |from: usize, to: usize, bytes: &mut Vec<u8>| {
+            bytes.copy_within(from..to, write);
+            write += to - from;
+            ends.push(write);
+        };
+        match separator {
+            Separator::Tab => loop {
+                match bytes[at..end].iter().position(|&b| b == b'\t') {
+                    Some(k) => {
+                        push(at, at + k, &mut bytes);
+                        at += k + 1;
+                    }
+                    None => {
+                        push(at, end, &mut bytes);
+                        break;
+                    }
+                }
+            },
+            Separator::Whitespace => loop {
+                while at < end && is_sep(bytes[at]) {
+                    at += 1;
+                }
+                if at == end {
+                    break;
+                }
+                let start = at;
+                while at < end && !is_sep(bytes[at]) {
+                    at += 1;
+                }
+                push(start, at, &mut bytes);
+            },
+        }
+        read = end + 1;
+        let got = ends.len() - before;
+        if row == 0 {
+            sentence.width = got;
+        } else if got != sentence.width {
+            return Err(Error::ColumnCount {
+                path: sentence.path.to_path_buf(),
+                line,
+                first_line: sentence.lines[0],
+                expected: sentence.width,
+                got,
+                mixed,
+            });
+        }
+    }
+    bytes.truncate(write);
+    // Cells end at ASCII separators, so the bytes stay valid UTF-8; the
+    // check costs little next to reading.
+    sentence.text =
+        String::from_utf8(bytes).map_err(|_| Error::InvalidUtf8 {
+            path: sentence.path.to_path_buf(),
+            line: sentence.lines[0],
+        })?;
+    Ok(())
 }
 
 #[cfg(test)]
@@ -391,6 +570,109 @@ mod tests {
     }
 
     #[test]
+    fn tab_separated_files_keep_spaces_and_empty_tokens() {
+        // Sentences end at blank lines that hold a tab, as in the shipped
+        // WNUT-17 training file; a marker line without a tab does not
+        // count.
+        let file = read(
+            b"-DOCSTART-\n\nke s\tO\n\tO\nMoor  Hall\tB-LOC\n\t\n\
+              x\tB-PER\r\n",
+        )
+        .unwrap();
+        assert_eq!(file.separator, Separator::Tab);
+        assert_eq!(file.mixed, None);
+        assert_eq!(
+            rows(&file),
+            vec![
+                vec![
+                    vec!["ke s", "O"],
+                    vec!["", "O"],
+                    vec!["Moor  Hall", "B-LOC"]
+                ],
+                vec![vec!["x", "B-PER"]],
+            ]
+        );
+        let lines: Vec<&[u64]> =
+            file.sentences.iter().map(|s| s.lines()).collect();
+        assert_eq!(lines, [&[3, 4, 5][..], &[7]]);
+        let spec = ColumnSpec::default();
+        assert_eq!(
+            file.sentences[0].tokens(&spec).unwrap(),
+            ["ke s", "", "Moor  Hall"]
+        );
+    }
+
+    #[test]
+    fn markers_are_whole_first_columns() {
+        let file =
+            read(b" -DOCSTART-\tO\n-DOCSTART-x O\n\t-DOCSTART-\n").unwrap();
+        assert_eq!(rows(&file), vec![vec![vec!["-DOCSTART-x", "O"]]]);
+    }
+
+    #[test]
+    fn whitespace_files_split_on_runs_as_before() {
+        let file = read(b"EU  B-ORG\nrejects   O\n").unwrap();
+        assert_eq!(file.separator, Separator::Whitespace);
+        assert_eq!(file.mixed, None);
+        // Columns aligned with tabs and spaces: split on the runs, and
+        // noted as mixed, since tabs alone would give other cells.
+        let file = read(b"EU  B-ORG\nrejects \t O\n").unwrap();
+        assert_eq!(file.separator, Separator::Whitespace);
+        assert_eq!(
+            file.mixed,
+            Some(MixedLines { without_tab: 1, with_tab: 2, differs: Some(2) })
+        );
+        assert_eq!(
+            rows(&file),
+            vec![vec![vec!["EU", "B-ORG"], vec!["rejects", "O"]]]
+        );
+    }
+
+    #[test]
+    fn a_trailing_tab_is_an_empty_last_column() {
+        let file = read(b"a\tO\t\nb\tO\t\n").unwrap();
+        assert_eq!(
+            rows(&file),
+            vec![vec![vec!["a", "O", ""], vec!["b", "O", ""]]]
+        );
+        let err =
+            file.sentences[0].labels(&ColumnSpec::default()).unwrap_err();
+        assert_eq!(err.to_string(), "mem:1: the label (column -1) is empty");
+        let spec = ColumnSpec { token: Column::FIRST, label: Column(2) };
+        assert_eq!(file.sentences[0].labels(&spec).unwrap(), ["O", "O"]);
+    }
+
+    #[test]
+    fn mixed_files_split_on_whitespace_and_name_the_lines() {
+        // Same cells either way: noted, with nothing that differs.
+        let file = read(b"a\tO\n\nb O\n").unwrap();
+        assert_eq!(file.separator, Separator::Whitespace);
+        assert_eq!(
+            file.mixed,
+            Some(MixedLines { without_tab: 3, with_tab: 1, differs: None })
+        );
+        // A token with a space, in a sentence of one row: it parses, but
+        // the first row that tabs alone would split otherwise is named.
+        let file = read(b"a\tO\n\nke s\tO\n\nb O\n").unwrap();
+        assert_eq!(
+            file.mixed,
+            Some(MixedLines { without_tab: 5, with_tab: 1, differs: Some(3) })
+        );
+        assert_eq!(rows(&file)[1], vec![vec!["ke", "s", "O"]]);
+        // Empty cells are what differs too.
+        let file = read(b"a\t\tO O\nb O O\n").unwrap();
+        assert_eq!(file.mixed.unwrap().differs, Some(1));
+        // When the row count breaks, the error says why it split so.
+        let err = read(b"ke s\tO\nb O\n").unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "mem:2: 2 columns, but the sentence's first row (line 1) has 3 \
+             (columns split on spaces and tabs because line 2 has no tab \
+             while line 1 has one)"
+        );
+    }
+
+    #[test]
     fn a_file_without_token_rows_is_an_error() {
         for input in [&b""[..], b"\n\n", b" \t\r\n", b"-DOCSTART- O\n\n"] {
             let err = read(input).unwrap_err();
@@ -454,6 +736,45 @@ mod properties {
                     prop_assert!(file.tokens() > 0);
                 }
                 Err(e) => prop_assert!(e.to_string().starts_with("p")),
+            }
+        }
+
+        /// Tab-separated files whose tokens hold spaces or are empty
+        /// read back as written, and so does writing the cells back
+        /// joined by tabs (what `tag` does).
+        #[test]
+        fn tab_files_round_trip(
+            sentences in proptest::collection::vec(
+                proptest::collection::vec(("[a-z ]{0,5}", "[A-Z]{1,3}"), 1..6), 1..6)
+        ) {
+            let mut text = String::new();
+            for s in &sentences {
+                for (w, l) in s {
+                    text.push_str(&format!("{w}\t{l}\n"));
+                }
+                text.push_str("\t\n");
+            }
+            let file = read_columns_from(text.as_bytes(), Path::new("g")).unwrap();
+            prop_assert_eq!(file.separator, Separator::Tab);
+            prop_assert_eq!(file.sentences.len(), sentences.len());
+            let mut again = String::new();
+            for (got, want) in file.sentences.iter().zip(&sentences) {
+                let rows: Vec<(String, String)> = (0..got.len())
+                    .map(|r| (got.cell(r, 0).to_string(), got.cell(r, 1).to_string()))
+                    .collect();
+                prop_assert_eq!(&rows, want);
+                for r in 0..got.len() {
+                    again.push_str(&got.row(r).collect::<Vec<_>>().join("\t"));
+                    again.push('\n');
+                }
+                again.push('\n');
+            }
+            let reread = read_columns_from(again.as_bytes(), Path::new("g")).unwrap();
+            for (a, b) in reread.sentences.iter().zip(&file.sentences) {
+                prop_assert_eq!(a.len(), b.len());
+                for r in 0..a.len() {
+                    prop_assert_eq!(a.row(r).collect::<Vec<_>>(), b.row(r).collect::<Vec<_>>());
+                }
             }
         }
 

@@ -4,6 +4,8 @@
 
 use std::{fmt, io, path::PathBuf};
 
+use crate::columns::MixedLines;
+
 /// Everything that can go wrong in this crate.
 #[derive(Debug)]
 #[non_exhaustive]
@@ -35,6 +37,19 @@ pub enum Error {
         expected: usize,
         /// The number of columns of the offending row.
         got: usize,
+        /// Set when the file mixes rows with and without a tab, so that
+        /// it was split on whitespace: the lines that show it.
+        mixed: Option<MixedLines>,
+    },
+    /// A label cell is empty (a tab-separated file can hold empty
+    /// cells).
+    EmptyLabel {
+        /// The file concerned.
+        path: PathBuf,
+        /// The 1-based line number of the row.
+        line: u64,
+        /// The label column as the user gave it.
+        column: isize,
     },
     /// A column was asked for that a row does not have.
     NoColumn {
@@ -115,7 +130,14 @@ impl fmt::Display for Error {
             Error::InvalidUtf8 { path, line } => {
                 write!(f, "{}:{}: invalid UTF-8", path.display(), line)
             }
-            Error::ColumnCount { path, line, first_line, expected, got } => {
+            Error::ColumnCount {
+                path,
+                line,
+                first_line,
+                expected,
+                got,
+                mixed,
+            } => {
                 write!(
                     f,
                     "{}:{}: {} column{}, but the sentence's first row \
@@ -126,8 +148,20 @@ impl fmt::Display for Error {
                     plural(*got),
                     first_line,
                     expected
-                )
+                )?;
+                if let Some(m) = mixed {
+                    let m = MixedLines { differs: None, ..*m };
+                    write!(f, " ({m})")?;
+                }
+                Ok(())
             }
+            Error::EmptyLabel { path, line, column } => write!(
+                f,
+                "{}:{}: the label (column {}) is empty",
+                path.display(),
+                line,
+                column
+            ),
             Error::NoColumn { path, line, column, width } => write!(
                 f,
                 "{}:{}: there is no column {} in a row of {} column{}",
@@ -204,11 +238,30 @@ mod tests {
             first_line: 5,
             expected: 3,
             got: 2,
+            mixed: None,
         };
         assert_eq!(
             err.to_string(),
             "t.conll:7: 2 columns, but the sentence's first row (line 5) \
              has 3"
+        );
+        let err = Error::ColumnCount {
+            path: "t.conll".into(),
+            line: 7,
+            first_line: 5,
+            expected: 3,
+            got: 2,
+            mixed: Some(MixedLines {
+                without_tab: 7,
+                with_tab: 5,
+                differs: None,
+            }),
+        };
+        assert_eq!(
+            err.to_string(),
+            "t.conll:7: 2 columns, but the sentence's first row (line 5) \
+             has 3 (columns split on spaces and tabs because line 7 has no \
+             tab while line 5 has one)"
         );
         let err = Error::NoColumn {
             path: "t.conll".into(),

@@ -44,11 +44,24 @@ pub struct TrainParams {
     /// The tag scheme of the labels; detected from the training labels
     /// when `None`.
     pub scheme: Option<Scheme>,
+    /// Refit (default off; needs development sentences): after the epoch
+    /// count is chosen on the development set, train afresh on the
+    /// training sentences followed by the development sentences for that
+    /// many epochs with the same seed, and keep that model. It equals a
+    /// model trained without development data on the concatenation for
+    /// that many epochs.
+    pub refit: bool,
 }
 
 impl Default for TrainParams {
     fn default() -> Self {
-        TrainParams { epochs: 10, seed: 1, prune: true, scheme: None }
+        TrainParams {
+            epochs: 10,
+            seed: 1,
+            prune: true,
+            scheme: None,
+            refit: false,
+        }
     }
 }
 
@@ -69,6 +82,9 @@ pub struct EpochReport {
     /// Score on the development sentences with the averaged weights
     /// (F1 for chunk schemes, token accuracy otherwise), if any.
     pub dev_score: Option<f64>,
+    /// True for the epochs of the refit on training and development
+    /// sentences (which have no development score).
+    pub refit: bool,
 }
 
 /// Progress inside an epoch: sentences done of all.
@@ -104,13 +120,68 @@ pub struct TaggerModel {
 
 impl TaggerModel {
     /// Trains on `train`, picking the epoch that scores best on `dev`
-    /// (the last epoch without it).
+    /// (the last epoch without it). With [`TrainParams::refit`], then
+    /// trains afresh on `train` followed by `dev` for the chosen number
+    /// of epochs; the model's [`best_epoch`](TaggerModel::best_epoch) is
+    /// that number either way.
+    ///
+    /// The refit starts from nothing (features, labels, tag dictionary
+    /// and weights are all rebuilt from the joined sentences) with the
+    /// same seed, so it is the same computation as training on a file
+    /// holding the training and then the development sentences with
+    /// `epochs` set to the chosen count and no development set, and gives
+    /// the same model. Memory: the training and development sentences are
+    /// copied once for the join.
     pub fn train(
         train: &[Labeled],
         dev: Option<&[Labeled]>,
         config: CheckedConfig,
         paths: Option<Paths>,
         params: &TrainParams,
+        progress: Progress,
+        epoch_done: &mut dyn FnMut(&EpochReport),
+    ) -> Result<TaggerModel> {
+        if !params.refit {
+            return Self::train_once(
+                train, dev, config, paths, params, false, progress, epoch_done,
+            );
+        }
+        let Some(dev) = dev else {
+            return Err(Error::InvalidParam {
+                name: "refit",
+                reason: "refitting needs development sentences to choose \
+                         the epoch count"
+                    .into(),
+            });
+        };
+        let chosen = Self::train_once(
+            train,
+            Some(dev),
+            config.clone(),
+            paths.clone(),
+            params,
+            false,
+            progress,
+            epoch_done,
+        )?
+        .best_epoch;
+        let joined: Vec<Labeled> = train.iter().chain(dev).cloned().collect();
+        let again =
+            TrainParams { epochs: chosen, refit: false, ..params.clone() };
+        Self::train_once(
+            &joined, None, config, paths, &again, true, progress, epoch_done,
+        )
+    }
+
+    /// One training run; `refit` only marks the epoch reports.
+    #[allow(clippy::too_many_arguments)]
+    fn train_once(
+        train: &[Labeled],
+        dev: Option<&[Labeled]>,
+        config: CheckedConfig,
+        paths: Option<Paths>,
+        params: &TrainParams,
+        refit: bool,
         progress: Progress,
         epoch_done: &mut dyn FnMut(&EpochReport),
     ) -> Result<TaggerModel> {
@@ -219,6 +290,7 @@ impl TaggerModel {
                 tokens_per_second: tokens as f64 / seconds,
                 mistakes,
                 dev_score,
+                refit,
             });
             let score = dev_score.unwrap_or(epoch as f64);
             // Strictly better only: ties keep the earlier epoch.
@@ -505,6 +577,93 @@ mod tests {
         model.save(&path).unwrap();
         let err = TaggerModel::load(&path).unwrap_err().to_string();
         assert!(err.contains("inconsistent model"), "{err}");
+    }
+
+    /// Sentences whose labels depend on the word, with a few noisy ones
+    /// so that the epochs differ on a development set.
+    fn noisy(count: usize, salt: usize) -> Vec<Labeled> {
+        let words = ["Ada", "ran", "to", "Fennick", "Bram", "sat", "by"];
+        (0..count)
+            .map(|k| {
+                let tokens: Vec<String> = (0..5)
+                    .map(|j| words[(k * 3 + j * (salt + 2)) % 7].to_string())
+                    .collect();
+                let labels = tokens
+                    .iter()
+                    .enumerate()
+                    .map(|(j, t)| {
+                        let upper = t.starts_with(char::is_uppercase);
+                        if upper != ((k + j + salt) % 11 == 0) {
+                            "B-X".to_string()
+                        } else {
+                            "O".to_string()
+                        }
+                    })
+                    .collect();
+                Labeled { tokens, labels }
+            })
+            .collect()
+    }
+
+    fn train_with(
+        train: &[Labeled],
+        dev: Option<&[Labeled]>,
+        params: &TrainParams,
+        reports: &mut Vec<EpochReport>,
+    ) -> Result<TaggerModel> {
+        TaggerModel::train(
+            train,
+            dev,
+            FeatureConfig::default().check().unwrap(),
+            None,
+            params,
+            &mut |_, _| {},
+            &mut |r| reports.push(r.clone()),
+        )
+    }
+
+    #[test]
+    fn refit_equals_training_on_the_joined_sentences() {
+        let (train, dev) = (noisy(80, 1), noisy(40, 2));
+        let params =
+            TrainParams { epochs: 6, seed: 5, ..TrainParams::default() };
+        let mut reports = Vec::new();
+        let plain =
+            train_with(&train, Some(&dev), &params, &mut reports).unwrap();
+        assert!(reports.iter().all(|r| !r.refit && r.dev_score.is_some()));
+        let refit_params = TrainParams { refit: true, ..params.clone() };
+        let mut reports = Vec::new();
+        let refit =
+            train_with(&train, Some(&dev), &refit_params, &mut reports)
+                .unwrap();
+        let chosen = plain.best_epoch;
+        assert_eq!(refit.best_epoch, chosen);
+        // The dev epochs, then the refit's epochs without dev scores.
+        assert_eq!(reports.len(), 6 + chosen);
+        assert!(reports[6..].iter().all(|r| r.refit && r.dev_score.is_none()));
+        assert_eq!(reports[6..].last().unwrap().epoch, chosen);
+
+        let joined: Vec<Labeled> = train.iter().chain(&dev).cloned().collect();
+        let by_hand_params = TrainParams { epochs: chosen, ..params.clone() };
+        let by_hand =
+            train_with(&joined, None, &by_hand_params, &mut Vec::new())
+                .unwrap();
+        assert!(
+            model::encode(&refit) == model::encode(&by_hand),
+            "refit differs from training on train+dev by hand"
+        );
+        assert!(
+            model::encode(&refit) != model::encode(&plain),
+            "refit gave the model trained on train only"
+        );
+    }
+
+    #[test]
+    fn refit_without_development_sentences_is_refused() {
+        let params = TrainParams { refit: true, ..TrainParams::default() };
+        let err = train_with(&noisy(10, 1), None, &params, &mut Vec::new())
+            .unwrap_err();
+        assert!(err.to_string().starts_with("invalid refit:"), "{err}");
     }
 
     #[test]
