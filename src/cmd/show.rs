@@ -131,10 +131,16 @@ pub fn run(args: Args) -> Result<()> {
                 dendrogram::render(&table, args.levels, args.leaf_words)?;
             out.write_all(image.as_bytes())?;
         } else {
-            dendrogram::draw(&table, args.levels, args.leaf_words, svg)?;
+            let drawn =
+                dendrogram::draw(&table, args.levels, args.leaf_words, svg)?;
+            let deepest = if drawn < args.levels {
+                format!(" (--levels {}: the tree is no deeper)", args.levels)
+            } else {
+                String::new()
+            };
             eprintln!(
-                "lexiclade: drew the top {} levels of the hierarchy into {}",
-                args.levels,
+                "lexiclade: drew the top {drawn} levels of the hierarchy \
+                 into {}{deepest}",
                 svg.display()
             );
         }
