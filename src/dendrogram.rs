@@ -76,8 +76,8 @@ pub fn render(
     Ok(render_with_depth(table, levels, words_per_leaf)?.0)
 }
 
-/// The SVG document and the number of levels in it.
-fn render_with_depth(
+/// The SVG document [`draw`] writes and the number of levels drawn.
+pub fn render_with_depth(
     table: &ClusterTable,
     levels: usize,
     words_per_leaf: usize,

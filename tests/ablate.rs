@@ -188,9 +188,11 @@ fn demo_runs_end_to_end_and_clusters_beat_the_baseline() {
     // A file a user added is not the demo's: refused without --force,
     // and left as it was.
     dir.write("demo/clusters/mine.txt", "precious");
-    let err = lexiclade::demo::run(&dir.join("demo"), false, &params)
-        .unwrap_err()
-        .to_string();
+    let Err(err) = lexiclade::demo::run(&dir.join("demo"), false, &params)
+    else {
+        panic!("a directory with a file of the user's was replaced");
+    };
+    let err = err.to_string();
     assert!(err.contains("holds clusters/mine.txt"), "{err}");
     assert_eq!(dir.read("demo/clusters/mine.txt"), "precious");
     lexiclade::demo::run(&dir.join("demo"), true, &params).unwrap();
