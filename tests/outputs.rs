@@ -632,6 +632,21 @@ fn messages_name_the_right_thing() {
     lexiclade(dir.path(), &["train", "--train", "train.conll", "--model", "x.bin", "--config", "ner.toml"])
         .user_error("lexiclade: ner.toml: sets clusters.enabled = true, so --clusters DIR is needed");
 
+    // The same in an experiment: refused before any run, naming the
+    // feature config.
+    dir.write(
+        "needs.toml",
+        "[data]\ntrain = \"train.conll\"\ndev = \"train.conll\"\n\
+         test = \"train.conll\"\n[[features]]\nname = \"x\"\n\
+         config = \"ner.toml\"\n\
+         [training]\nsizes = [30]\nseeds = [1]\nepochs = 1\nrounds = 10\n",
+    );
+    lexiclade(dir.path(), &["ablate", "--config", "needs.toml", "--out", "r3", "-q"])
+        .user_error(
+            "lexiclade: ner.toml: sets clusters.enabled = true, but feature set \"x\" has no clusters",
+        );
+    assert!(!dir.join("r3").exists());
+
     // Counting an empty file says what count does.
     lexiclade(dir.path(), &["count", "empty.txt", "--out", "c.tsv"])
         .user_error("lexiclade: empty.txt: no tokens to count");
