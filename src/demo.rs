@@ -8,7 +8,7 @@
 
 use std::path::Path;
 
-use anyhow::Result;
+use anyhow::{bail, Context, Result};
 use lexiclade_cluster::{
     cluster, ClusterOutput, ClusterParams, ClusterTable, Counts,
 };
@@ -25,6 +25,67 @@ use crate::experiment::{
 /// The file in a demo directory that marks it as one, so that `demo`
 /// may replace it without `--force`.
 pub const MARKER: &str = "lexiclade-demo.txt";
+
+/// Every file [`run`] writes, by its path in the output directory. A
+/// directory with the marker and nothing else is an earlier demo's and
+/// is replaced without `--force`; anything else in it (a file a user
+/// added) makes `demo` refuse it.
+pub const FILES: [&str; 16] = [
+    "clusters/clusters.tsv",
+    "clusters/merges.tsv",
+    "clusters/summary.json",
+    "dev.conll",
+    "learning-curve.svg",
+    MARKER,
+    "ner-no-clusters.toml",
+    "ner.toml",
+    "prefixes.svg",
+    "raw.txt",
+    "runs.csv",
+    "savings.csv",
+    "summary.json",
+    "summary.md",
+    "test.conll",
+    "train.conll",
+];
+
+/// Whether `out` may be replaced: with `force`, or when it holds an
+/// earlier demo's output and nothing else. A directory without the
+/// marker is left to [`AtomicDir::create`], which refuses it unless it
+/// is empty.
+fn replaceable(out: &Path, force: bool) -> Result<bool> {
+    if force || !out.join(MARKER).is_file() {
+        return Ok(force);
+    }
+    let mut stack = vec![std::path::PathBuf::new()];
+    while let Some(below) = stack.pop() {
+        let entries = std::fs::read_dir(out.join(&below))
+            .with_context(|| out.join(&below).display().to_string())?;
+        for entry in entries {
+            let entry = entry
+                .with_context(|| out.join(&below).display().to_string())?;
+            let rel = below.join(entry.file_name());
+            let is_dir = entry.file_type().is_ok_and(|t| t.is_dir());
+            let known = if is_dir {
+                FILES.iter().any(|f| Path::new(f).starts_with(&rel))
+            } else {
+                FILES.iter().any(|f| Path::new(f) == rel)
+            };
+            if !known {
+                bail!(
+                    "{}: holds {}, which `lexiclade demo` does not write \
+                     (use --force to replace the directory anyway)",
+                    out.display(),
+                    rel.display()
+                );
+            }
+            if is_dir {
+                stack.push(rel);
+            }
+        }
+    }
+    Ok(true)
+}
 
 /// What the demo learned, for the report.
 pub struct DemoReport {
@@ -106,8 +167,7 @@ pub fn run(
     force: bool,
     params: &DemoParams,
 ) -> Result<DemoReport> {
-    let replace = force || out.join(MARKER).is_file();
-    let dir = AtomicDir::create(out, replace)?;
+    let dir = AtomicDir::create(out, replaceable(out, force)?)?;
     let root = dir.path();
     let text = corpus(params.sentences, params.seed);
     std::fs::write(root.join("raw.txt"), &text)?;
@@ -198,7 +258,7 @@ pub fn run(
     let data = experiment::run::prepare(&experiment, &mut |_| {})?;
     let runs = experiment::run::run(&experiment, &data, true, &|_| {});
     if let Some(bad) = runs.iter().find_map(|r| r.error.as_deref()) {
-        anyhow::bail!("a demo run failed: {bad}");
+        bail!("a demo run failed: {bad}");
     }
     let comparisons = report::compare(&experiment, data.scheme, &runs);
     report::write_runs(&experiment, &runs, &root.join("runs.csv"))?;

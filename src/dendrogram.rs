@@ -15,11 +15,7 @@
 //! label. The output depends on nothing but the table and the two
 //! settings.
 
-use std::{
-    collections::BTreeMap,
-    io::Write,
-    path::{Path, PathBuf},
-};
+use std::{collections::BTreeMap, path::Path};
 
 use anyhow::{anyhow, bail, Context, Result};
 use lexiclade_cluster::ClusterTable;
@@ -51,40 +47,24 @@ const MAX_WORD: usize = 24;
 const CHAR_WIDTH: f64 = 0.62;
 
 /// Draws the top `levels` levels of `table`'s hierarchy, with up to
-/// `words_per_leaf` words on each leaf, and writes the SVG to `out`.
+/// `words_per_leaf` words on each leaf, and writes the SVG to `out`;
+/// returns the number of levels drawn, which is less than `levels` when
+/// the tree is shallower.
 ///
-/// The file is written beside `out` under a temporary name and renamed
-/// into place, so a failure leaves any previous `out` as it was and no
-/// partial file behind.
+/// The file goes through [`AtomicFile`](crate::atomic::AtomicFile),
+/// replacing an `out` that existed at the start: a failure leaves any
+/// previous `out` as it was and no partial file behind.
 pub fn draw(
     table: &ClusterTable,
     levels: usize,
     words_per_leaf: usize,
     out: &Path,
-) -> Result<()> {
-    let svg = render(table, levels, words_per_leaf)?;
-    let name = out
-        .file_name()
-        .with_context(|| format!("{}: not a file name", out.display()))?
-        .to_string_lossy()
-        .into_owned();
-    let parent = match out.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let mut temp = tempfile::Builder::new()
-        .prefix(&format!(".{name}.partial-"))
-        .tempfile_in(&parent)
-        .with_context(|| {
-            format!("{}: cannot create a file here", parent.display())
-        })?;
-    temp.write_all(svg.as_bytes())
-        .and_then(|()| temp.as_file().sync_all())
-        .with_context(|| format!("{}: cannot write", out.display()))?;
-    temp.persist(out)
-        .map_err(|e| e.error)
-        .with_context(|| format!("{}: cannot write", out.display()))?;
-    Ok(())
+) -> Result<usize> {
+    let (svg, depth) = render_with_depth(table, levels, words_per_leaf)?;
+    let mut file = crate::atomic::AtomicFile::create(out, true)?;
+    file.writer().write_all(svg.as_bytes())?;
+    file.commit()?;
+    Ok(depth)
 }
 
 /// The SVG document [`draw`] writes, as a string.
@@ -93,6 +73,15 @@ pub fn render(
     levels: usize,
     words_per_leaf: usize,
 ) -> Result<String> {
+    Ok(render_with_depth(table, levels, words_per_leaf)?.0)
+}
+
+/// The SVG document [`draw`] writes and the number of levels drawn.
+pub fn render_with_depth(
+    table: &ClusterTable,
+    levels: usize,
+    words_per_leaf: usize,
+) -> Result<(String, usize)> {
     let leaves = leaves(table, levels, words_per_leaf)?;
     let layout = Layout::new(&leaves);
     let title = format!(
@@ -151,7 +140,7 @@ pub fn render(
         }
         area.present().map_err(fail)?;
     }
-    Ok(svg)
+    Ok((svg, layout.depth))
 }
 
 /// One leaf of the drawn tree.
@@ -410,8 +399,9 @@ mod tests {
     fn same_table_same_bytes() {
         let dir = tempfile::tempdir().unwrap();
         let (a, b) = (dir.path().join("a.svg"), dir.path().join("b.svg"));
-        draw(&table(), 6, 4, &a).unwrap();
-        draw(&table(), 6, 4, &b).unwrap();
+        // The tree is 3 levels deep: that is what was drawn.
+        assert_eq!(draw(&table(), 6, 4, &a).unwrap(), 3);
+        assert_eq!(draw(&table(), 6, 4, &b).unwrap(), 3);
         assert_eq!(std::fs::read(a).unwrap(), std::fs::read(b).unwrap());
     }
 

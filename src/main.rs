@@ -33,6 +33,11 @@ enum Command {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     lexiclade::interrupt::install();
+    // The tests' hook for changing an output just before its commit
+    // (see `atomic::set_commit_gate`).
+    if let Some(dir) = std::env::var_os("LEXICLADE_TEST_COMMIT_GATE") {
+        lexiclade::atomic::set_commit_gate(dir.into());
+    }
     let result = match cli.command {
         Command::Cluster(args) => cmd::cluster::run(args),
         Command::Count(args) => cmd::count::run(args),

@@ -169,6 +169,34 @@ fn demo_runs_end_to_end_and_clusters_beat_the_baseline() {
     }
     // Running it again replaces the earlier demo without --force.
     lexiclade::demo::run(&dir.join("demo"), false, &params).unwrap();
+    // It wrote exactly the files it recognises as its own.
+    let mut written = Vec::new();
+    let mut stack = vec![dir.join("demo")];
+    while let Some(d) = stack.pop() {
+        for e in std::fs::read_dir(&d).unwrap() {
+            let p = e.unwrap().path();
+            if p.is_dir() {
+                stack.push(p);
+            } else {
+                let rel = p.strip_prefix(dir.join("demo")).unwrap();
+                written.push(rel.to_string_lossy().into_owned());
+            }
+        }
+    }
+    written.sort();
+    assert_eq!(written, lexiclade::demo::FILES);
+    // A file a user added is not the demo's: refused without --force,
+    // and left as it was.
+    dir.write("demo/clusters/mine.txt", "precious");
+    let Err(err) = lexiclade::demo::run(&dir.join("demo"), false, &params)
+    else {
+        panic!("a directory with a file of the user's was replaced");
+    };
+    let err = err.to_string();
+    assert!(err.contains("holds clusters/mine.txt"), "{err}");
+    assert_eq!(dir.read("demo/clusters/mine.txt"), "precious");
+    lexiclade::demo::run(&dir.join("demo"), true, &params).unwrap();
+    assert!(!dir.join("demo/clusters/mine.txt").exists());
 }
 
 /// A feature set may bring its own cluster directory: here the same

@@ -302,8 +302,9 @@ fn help_explains_every_option() {
     }
 }
 
-/// An interrupt (SIGINT) leaves the previous output as it was, no
-/// temporary directory behind, and exit code 130.
+/// An interrupt (SIGINT), SIGTERM or SIGHUP leaves the previous output
+/// as it was, no temporary directory behind, and exit code 130, 143 or
+/// 129.
 #[test]
 #[cfg(unix)]
 fn interrupt_leaves_previous_output_and_no_temporary_files() {
@@ -321,27 +322,31 @@ fn interrupt_leaves_previous_output_and_no_temporary_files() {
         .write_to(&mut big)
         .unwrap();
     drop(big);
-    crate::util::interrupt(
-        dir.path(),
-        &[
-            "cluster",
-            "big.txt",
-            "--out",
-            "o",
-            "--classes",
-            "500",
-            "--force",
-            "-q",
-        ],
-        std::time::Duration::from_millis(1500),
-    );
-    assert_eq!(dir.read("o/clusters.tsv"), before);
-    let mut names: Vec<_> = std::fs::read_dir(dir.path())
-        .unwrap()
-        .map(|e| e.unwrap().file_name().into_string().unwrap())
-        .collect();
-    names.sort();
-    assert_eq!(names, ["big.txt", "o", "t.txt"]);
+    for (signal, code) in crate::util::STOP_SIGNALS {
+        crate::util::stop(
+            dir.path(),
+            &[
+                "cluster",
+                "big.txt",
+                "--out",
+                "o",
+                "--classes",
+                "500",
+                "--force",
+                "-q",
+            ],
+            std::time::Duration::from_millis(1500),
+            signal,
+            code,
+        );
+        assert_eq!(dir.read("o/clusters.tsv"), before);
+        let mut names: Vec<_> = std::fs::read_dir(dir.path())
+            .unwrap()
+            .map(|e| e.unwrap().file_name().into_string().unwrap())
+            .collect();
+        names.sort();
+        assert_eq!(names, ["big.txt", "o", "t.txt"], "{signal}");
+    }
 }
 
 /// Counting shards and clustering the summed counts gives the same files

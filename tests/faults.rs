@@ -6,7 +6,7 @@
 use std::path::Path;
 use std::process::Command;
 
-use crate::util::{interrupt, lexiclade, Dir, Run};
+use crate::util::{lexiclade, stop, Dir, Run, STOP_SIGNALS};
 
 /// Whether the error message begins with `path` (the file, or the
 /// directory under which it is).
@@ -27,8 +27,8 @@ fn names(dir: &Path) -> Vec<String> {
     names
 }
 
-/// An interrupt during training leaves the previous model file as it was
-/// and no temporary file beside it.
+/// An interrupt (SIGINT), SIGTERM or SIGHUP during training leaves the
+/// previous model file as it was and no temporary file beside it.
 #[test]
 #[cfg(unix)]
 #[cfg_attr(
@@ -46,27 +46,32 @@ fn interrupted_training_keeps_the_previous_model() {
     let before = std::fs::read(dir.join("m.bin")).unwrap();
     // Long enough to be mid-training after a second and a half.
     dir.write("big.conll", lexiclade::demo::labeled(60_000, 2, 1.0));
-    interrupt(
-        dir.path(),
-        &[
-            "train",
-            "--train",
-            "big.conll",
-            "--model",
-            "m.bin",
-            "--epochs",
-            "200",
-            "--force",
-            "-q",
-        ],
-        std::time::Duration::from_millis(1500),
-    );
-    assert_eq!(std::fs::read(dir.join("m.bin")).unwrap(), before);
-    assert_eq!(names(dir.path()), ["big.conll", "m.bin", "small.conll"]);
+    for (signal, code) in STOP_SIGNALS {
+        stop(
+            dir.path(),
+            &[
+                "train",
+                "--train",
+                "big.conll",
+                "--model",
+                "m.bin",
+                "--epochs",
+                "200",
+                "--force",
+                "-q",
+            ],
+            std::time::Duration::from_millis(1500),
+            signal,
+            code,
+        );
+        assert_eq!(std::fs::read(dir.join("m.bin")).unwrap(), before);
+        assert_eq!(names(dir.path()), ["big.conll", "m.bin", "small.conll"]);
+    }
 }
 
-/// An interrupt during an ablation leaves the previous result directory
-/// as it was and no temporary directory beside it.
+/// An interrupt (SIGINT), SIGTERM or SIGHUP during an ablation leaves
+/// the previous result directory as it was and no temporary directory
+/// beside it.
 #[test]
 #[cfg(unix)]
 #[cfg_attr(
@@ -100,24 +105,36 @@ fn interrupted_ablation_keeps_the_previous_result() {
     // Many long runs on more data: still busy after a second and a half.
     dir.write("train.conll", lexiclade::demo::labeled(20_000, 11, 0.5));
     dir.write("long.toml", experiment(100, "1, 2, 3, 4, 5, 6, 7, 8"));
-    interrupt(
-        dir.path(),
-        &["ablate", "--config", "long.toml", "--out", "r", "--force", "-q"],
-        std::time::Duration::from_millis(1500),
-    );
-    assert_eq!(dir.read("r/runs.csv"), before);
-    assert_eq!(
-        names(dir.path()),
-        [
-            "long.toml",
-            "ner.toml",
-            "quick.toml",
-            "r",
-            "raw.txt",
-            "test.conll",
-            "train.conll"
-        ]
-    );
+    for (signal, code) in STOP_SIGNALS {
+        stop(
+            dir.path(),
+            &[
+                "ablate",
+                "--config",
+                "long.toml",
+                "--out",
+                "r",
+                "--force",
+                "-q",
+            ],
+            std::time::Duration::from_millis(1500),
+            signal,
+            code,
+        );
+        assert_eq!(dir.read("r/runs.csv"), before);
+        assert_eq!(
+            names(dir.path()),
+            [
+                "long.toml",
+                "ner.toml",
+                "quick.toml",
+                "r",
+                "raw.txt",
+                "test.conll",
+                "train.conll"
+            ]
+        );
+    }
 }
 
 /// Zipfian text with 5,000 words: every output of it is far above the

@@ -252,10 +252,17 @@ pub fn read_brown(dir: &Path) -> Vec<(String, Vec<TaggedSentence>)> {
         .collect()
 }
 
-/// Starts `lexiclade args` in `cwd`, sends SIGINT after `wait`, and
-/// checks the exit code 130.
+/// Starts `lexiclade args` in `cwd`, sends the signal `name` (as `kill`
+/// spells it: `INT`, `TERM`, `HUP`) after `wait`, and checks the exit
+/// code `code` (128 plus the signal's number).
 #[cfg(unix)]
-pub fn interrupt(cwd: &Path, args: &[&str], wait: std::time::Duration) {
+pub fn stop(
+    cwd: &Path,
+    args: &[&str],
+    wait: std::time::Duration,
+    name: &str,
+    code: i32,
+) {
     let child = std::process::Command::new(env!("CARGO_BIN_EXE_lexiclade"))
         .args(args)
         .current_dir(cwd)
@@ -264,15 +271,20 @@ pub fn interrupt(cwd: &Path, args: &[&str], wait: std::time::Duration) {
         .unwrap();
     std::thread::sleep(wait);
     let killed = std::process::Command::new("kill")
-        .args(["-INT", &child.id().to_string()])
+        .args([&format!("-{name}"), &child.id().to_string()])
         .status()
         .unwrap();
     assert!(killed.success());
     let out = child.wait_with_output().unwrap();
     assert_eq!(
         out.status.code(),
-        Some(130),
-        "{args:?}: {}",
+        Some(code),
+        "{name} {args:?}: {}",
         String::from_utf8_lossy(&out.stderr)
     );
 }
+
+/// The signals that stop a run cleanly, with their exit codes.
+#[cfg(unix)]
+pub const STOP_SIGNALS: [(&str, i32); 3] =
+    [("INT", 130), ("TERM", 143), ("HUP", 129)];

@@ -240,7 +240,90 @@ impl ClusterTable {
                 ),
             ));
         }
+        check_paths(&path, &entries)?;
         Ok(ClusterTable { summary, entries })
+    }
+}
+
+/// Checks what the class hierarchy needs of the paths: one path per
+/// class, another for every other class, and no path a prefix of
+/// another (a class is a leaf of the tree). Errors name the row.
+fn check_paths(file: &Path, entries: &[WordEntry]) -> Result<()> {
+    use std::collections::{btree_map, hash_map, BTreeMap, HashMap};
+    let line = |row: usize| Some(row as u64 + 2);
+    let mut by_class: HashMap<u32, (&str, usize)> = HashMap::new();
+    let mut by_path: BTreeMap<&str, (u32, usize)> = BTreeMap::new();
+    for (row, e) in entries.iter().enumerate() {
+        match by_class.entry(e.class) {
+            hash_map::Entry::Occupied(o) if o.get().0 != e.path => {
+                return Err(Error::malformed(
+                    file,
+                    line(row),
+                    format!(
+                        "class {} has the path {} here but {} on line {}",
+                        e.class,
+                        shown(&e.path),
+                        shown(o.get().0),
+                        o.get().1 + 2
+                    ),
+                ));
+            }
+            hash_map::Entry::Occupied(_) => {}
+            hash_map::Entry::Vacant(v) => {
+                v.insert((&e.path, row));
+            }
+        }
+        match by_path.entry(&e.path) {
+            btree_map::Entry::Occupied(o) if o.get().0 != e.class => {
+                return Err(Error::malformed(
+                    file,
+                    line(row),
+                    format!(
+                        "class {} has the path {} of class {} (line {}); \
+                         class paths must differ",
+                        e.class,
+                        shown(&e.path),
+                        o.get().0,
+                        o.get().1 + 2
+                    ),
+                ));
+            }
+            btree_map::Entry::Occupied(_) => {}
+            btree_map::Entry::Vacant(v) => {
+                v.insert((e.class, row));
+            }
+        }
+    }
+    // In sorted order a path that is a prefix of others comes right
+    // before one of them.
+    let sorted: Vec<(&str, (u32, usize))> = by_path.into_iter().collect();
+    for pair in sorted.windows(2) {
+        let ((short, (_, at)), (long, (_, row))) = (pair[0], pair[1]);
+        if long.starts_with(short) {
+            return Err(Error::malformed(
+                file,
+                line(row),
+                format!(
+                    "class paths are not prefix-free: the path {} on \
+                     line {} is a prefix of this row's {}",
+                    shown(short),
+                    at + 2,
+                    shown(long)
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// A path for a message: in full when short, else its start and length.
+fn shown(path: &str) -> String {
+    const MAX: usize = 40;
+    if path.len() <= MAX {
+        format!("{path:?}")
+    } else {
+        // Paths are checked to be 0s and 1s, so any cut is a boundary.
+        format!("\"{}…\" ({} bits)", &path[..MAX - 8], path.len())
     }
 }
 
@@ -280,4 +363,69 @@ pub fn read_summary(path: &Path) -> Result<Summary> {
     serde_json::from_str(&text).map_err(|e| {
         Error::malformed(path, Some(e.line() as u64), e.to_string())
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A cluster directory with `rows` of (word, path, class, count).
+    fn dir_with(rows: &[(&str, &str, u32, u64)]) -> tempfile::TempDir {
+        let dir = tempfile::tempdir().unwrap();
+        let table = ClusterTable::from_rows(rows);
+        let mut summary = serde_json::to_value(&table.summary).unwrap();
+        summary["clustered_types"] = rows.len().into();
+        std::fs::write(dir.path().join("summary.json"), summary.to_string())
+            .unwrap();
+        let mut text = format!("{CLUSTERS_HEADER}\n");
+        for (w, p, c, n) in rows {
+            text += &format!("{w}\t{p}\t{c}\t{n}\n");
+        }
+        std::fs::write(dir.path().join("clusters.tsv"), text).unwrap();
+        dir
+    }
+
+    #[test]
+    fn paths_one_per_class_and_prefix_free() {
+        let good = dir_with(&[
+            ("a", "0", 0, 3),
+            ("b", "10", 1, 2),
+            ("c", "11", 2, 1),
+        ]);
+        assert!(ClusterTable::read(good.path()).is_ok());
+
+        let long = "0".repeat(5_000);
+        let bad = dir_with(&[
+            ("a", "0", 0, 3),
+            ("b", &long, 1, 2),
+            ("c", "1", 2, 1),
+        ]);
+        let err = ClusterTable::read(bad.path()).unwrap_err().to_string();
+        let file = bad.path().join("clusters.tsv").display().to_string();
+        assert!(
+            err.starts_with(&format!(
+                "{file}:3: class paths are not prefix-free"
+            )),
+            "{err}"
+        );
+        assert!(err.contains("\"0\" on line 2"), "{err}");
+        assert!(err.contains("(5000 bits)"), "{err}");
+        assert!(err.len() < file.len() + 200, "{err}");
+
+        let split = dir_with(&[("a", "0", 0, 3), ("b", "1", 0, 2)]);
+        let err = ClusterTable::read(split.path()).unwrap_err().to_string();
+        assert!(
+            err.contains(
+                ":3: class 0 has the path \"1\" here but \"0\" on line 2"
+            ),
+            "{err}"
+        );
+
+        let shared = dir_with(&[("a", "0", 0, 3), ("b", "0", 1, 2)]);
+        let err = ClusterTable::read(shared.path()).unwrap_err().to_string();
+        assert!(
+            err.contains(":3: class 1 has the path \"0\" of class 0"),
+            "{err}"
+        );
+    }
 }

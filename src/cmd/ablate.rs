@@ -36,8 +36,8 @@ pub struct Args {
     /// Replace DIR if it exists and is not empty.
     #[arg(long)]
     force: bool,
-    /// Worker threads. Default: the available cores, at most 8. Results
-    /// other than timings are the same for any number.
+    /// Worker threads, 1 to 1,024. Default: the available cores, at most
+    /// 8. Results other than timings are the same for any number.
     #[arg(long, value_name = "N")]
     threads: Option<usize>,
     /// No progress bar and no messages, only errors.
@@ -60,10 +60,7 @@ pub fn run(args: Args) -> Result<()> {
         inputs.extend(c.raw.iter().cloned());
     }
     lexiclade::atomic::refuse_overlap(&inputs, &args.out)?;
-    let threads = args.threads.unwrap_or_else(super::default_threads);
-    if threads == 0 {
-        anyhow::bail!("--threads must be at least 1");
-    }
+    let threads = super::threads(args.threads)?;
     let out = AtomicDir::create(&args.out, args.force)?;
     let quiet = args.quiet;
     let data = super::with_threads(threads, || {

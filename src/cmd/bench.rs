@@ -36,7 +36,8 @@ pub struct Args {
     /// gained and the time it took. 0, the default, leaves them out.
     #[arg(long, default_value_t = 0, value_name = "N")]
     exchange_passes: u32,
-    /// Worker threads per run. Default: the available cores, at most 8.
+    /// Worker threads per run, 1 to 1,024. Default: the available cores,
+    /// at most 8.
     #[arg(long, value_name = "N")]
     threads: Option<usize>,
     /// Where to write the temporary corpora (default: the system's
@@ -47,15 +48,13 @@ pub struct Args {
 
 /// Runs the command.
 pub fn run(args: Args) -> Result<()> {
-    if args.threads == Some(0) {
-        anyhow::bail!("--threads must be at least 1");
-    }
+    let threads = super::threads(args.threads)?;
     let mut plan = BenchPlan {
         types: args.types,
         tokens: args.tokens,
         classes: args.classes,
         text: args.real_text,
-        threads: args.threads.unwrap_or_else(super::default_threads),
+        threads,
         exchange_passes: args.exchange_passes,
     };
     if args.quick {

@@ -62,8 +62,8 @@ pub struct Args {
     /// Lowercase every token before counting.
     #[arg(long)]
     lowercase: bool,
-    /// Worker threads for the merge phase; the result is the same for any
-    /// number. Default: the available cores, at most 8.
+    /// Worker threads for the merge phase, 1 to 1,024; the result is the
+    /// same for any number. Default: the available cores, at most 8.
     #[arg(long, value_name = "N")]
     threads: Option<usize>,
     /// Replace DIR if it exists and is not empty.
@@ -79,10 +79,7 @@ pub fn run(args: Args) -> Result<()> {
     if args.classes < 2 {
         bail!("--classes must be at least 2, got {}", args.classes);
     }
-    let threads = args.threads.unwrap_or_else(super::default_threads);
-    if threads == 0 {
-        bail!("--threads must be at least 1");
-    }
+    let threads = super::threads(args.threads)?;
     if args.min_count == 0 {
         bail!("--min-count must be at least 1");
     }

@@ -1,7 +1,7 @@
 //! `lexiclade count`: count words and within-line bigrams into a count
 //! file, for clustering elsewhere with `cluster --counts`.
 
-use std::path::PathBuf;
+use std::{io::Write, path::PathBuf};
 
 use anyhow::{bail, Result};
 use lexiclade::{atomic::AtomicFile, progress::Bars};
@@ -20,7 +20,8 @@ pub struct Args {
     /// read as `cluster` reads them.
     #[arg(required = true, value_name = "INPUT")]
     inputs: Vec<PathBuf>,
-    /// The count file to write.
+    /// The count file to write; `-` writes it to standard output. A file
+    /// is written under a temporary name beside it and renamed at the end.
     #[arg(long, value_name = "COUNTS")]
     out: PathBuf,
     /// Split raw text as `cluster --tokenize` does.
@@ -43,24 +44,48 @@ pub fn run(args: Args) -> Result<()> {
     if sources.is_empty() {
         bail!("no input files found");
     }
-    lexiclade::atomic::refuse_overlap(&args.inputs, &args.out)?;
-    let mut file = AtomicFile::create(&args.out, args.force)?;
+    let to_stdout = args.out.as_os_str() == "-";
+    let mut file = if to_stdout {
+        None
+    } else {
+        lexiclade::atomic::refuse_overlap(&args.inputs, &args.out)?;
+        Some(AtomicFile::create(&args.out, args.force)?)
+    };
     let bar = Bars::new(args.quiet).bytes("counting");
     let options =
         TokenOptions { tokenize: args.tokenize, lowercase: args.lowercase };
     let counts = Counts::from_sources(&sources, options, 1, &mut |b| {
         bar.set_position(b)
+    })
+    .map_err(|e| match e {
+        // The library's wording is the clustering's.
+        lexiclade_cluster::Error::EmptyInput { what } => {
+            anyhow::anyhow!("{what}: no tokens to count")
+        }
+        e => e.into(),
     })?;
     bar.finish_and_clear();
-    count_file::write(&counts, file.writer())?;
-    file.commit()?;
+    let wrote = match &mut file {
+        Some(file) => {
+            count_file::write(&counts, file.writer())?;
+            args.out.display().to_string()
+        }
+        None => {
+            let mut out = lexiclade::atomic::standard_output();
+            count_file::write(&counts, &mut out)?;
+            out.flush()?;
+            "standard output".to_string()
+        }
+    };
+    if let Some(file) = file {
+        file.commit()?;
+    }
     if !args.quiet {
         eprintln!(
-            "lexiclade: {} tokens, {} words, {} bigrams; wrote {}",
+            "lexiclade: {} tokens, {} words, {} bigrams; wrote {wrote}",
             counts.tokens,
             counts.len(),
             counts.bigrams.len(),
-            args.out.display()
         );
     }
     Ok(())

@@ -16,13 +16,16 @@ use lexiclade::experiment::savings::Saving;
 /// skippers; the raw text and the test set name them all, so cluster
 /// features can show what they are for. DIR gets the text, the labeled
 /// files, the configs, the clusters and the files `ablate` writes. A
-/// directory written by an earlier demo is replaced.
+/// directory written by an earlier demo (it holds the file
+/// lexiclade-demo.txt and only files the demo writes) is replaced; any
+/// other non-empty directory is refused unless --force.
 #[derive(clap::Args)]
 pub struct Args {
     /// Where to write the demo's files.
     #[arg(long, value_name = "DIR", default_value = "lexiclade-demo")]
     out: PathBuf,
-    /// Replace DIR even if an earlier demo did not write it.
+    /// Replace DIR even if an earlier demo did not write it, or it holds
+    /// files the demo does not write.
     #[arg(long)]
     force: bool,
 }

@@ -44,6 +44,23 @@ pub fn default_threads() -> usize {
     std::thread::available_parallelism().map_or(1, |n| n.get()).min(8)
 }
 
+/// The most worker threads `--threads` accepts: far beyond what the
+/// parallel loops can use, low enough that a typo cannot make thousands
+/// of threads and their stacks.
+pub const MAX_THREADS: usize = 1024;
+
+/// The `--threads` value, or the default: refused unless between 1 and
+/// [`MAX_THREADS`].
+pub fn threads(given: Option<usize>) -> anyhow::Result<usize> {
+    match given {
+        None => Ok(default_threads()),
+        Some(n) if (1..=MAX_THREADS).contains(&n) => Ok(n),
+        Some(n) => anyhow::bail!(
+            "--threads must be between 1 and {MAX_THREADS}, got {n}"
+        ),
+    }
+}
+
 /// Runs `work` on a pool of `threads` rayon workers.
 pub fn with_threads<T: Send>(
     threads: usize,

@@ -8,7 +8,7 @@ use std::{
 };
 
 use anyhow::{bail, Result};
-use lexiclade::dendrogram;
+use lexiclade::{atomic::AtomicFile, dendrogram};
 use lexiclade_cluster::{query::shared_prefix, ClusterTable};
 
 /// Look inside a cluster directory written by `lexiclade cluster`.
@@ -86,8 +86,12 @@ pub fn run(args: Args) -> Result<()> {
              combined with --word or --prefix"
         );
     }
+    let mut svg_file = None;
     if let Some(svg) = args.svg.as_deref().filter(|_| !svg_to_stdout) {
         refuse_dir_file(&args.dir, svg)?;
+        // Created before the reading, so that the commit can tell
+        // whether something appeared at FILE meanwhile.
+        svg_file = Some(AtomicFile::create(svg, true)?);
     }
 
     let table = ClusterTable::read(&args.dir)?;
@@ -131,10 +135,22 @@ pub fn run(args: Args) -> Result<()> {
                 dendrogram::render(&table, args.levels, args.leaf_words)?;
             out.write_all(image.as_bytes())?;
         } else {
-            dendrogram::draw(&table, args.levels, args.leaf_words, svg)?;
-            eprintln!(
-                "lexiclade: drew the top {} levels of the hierarchy into {}",
+            let (image, drawn) = dendrogram::render_with_depth(
+                &table,
                 args.levels,
+                args.leaf_words,
+            )?;
+            let mut file = svg_file.take().expect("created above");
+            file.writer().write_all(image.as_bytes())?;
+            file.commit()?;
+            let deepest = if drawn < args.levels {
+                format!(" (--levels {}: the tree is no deeper)", args.levels)
+            } else {
+                String::new()
+            };
+            eprintln!(
+                "lexiclade: drew the top {drawn} levels of the hierarchy \
+                 into {}{deepest}",
                 svg.display()
             );
         }

@@ -2,7 +2,7 @@
 
 use std::{io::Write, path::PathBuf};
 
-use anyhow::Result;
+use anyhow::{bail, Result};
 use lexiclade::atomic::AtomicFile;
 use lexiclade_cluster::{
     text::{split_tokens, LineReader, Source},
@@ -35,7 +35,8 @@ pub struct Args {
     #[arg(long, value_name = "F")]
     out: Option<PathBuf>,
     /// The inputs are plain text, one sentence per line, tokens separated
-    /// by spaces and tabs.
+    /// by spaces and tabs. An input without a token is refused, as a
+    /// column file without token rows is.
     #[arg(long)]
     plain: bool,
     /// Replace the output file if it exists.
@@ -113,6 +114,7 @@ fn tag_plain(
         Source::File(input.to_path_buf())
     };
     let mut reader = LineReader::new(source.open()?, source.name());
+    let mut tagged = false;
     while let Some(line) = reader.next_line()? {
         let mut tokens: Vec<&str> = Vec::new();
         if raw {
@@ -127,6 +129,11 @@ fn tag_plain(
             writeln!(out, "{token}\t{label}")?;
         }
         writeln!(out)?;
+        tagged = true;
+    }
+    if !tagged {
+        // As a column file without token rows is refused.
+        bail!("{}: no tokens to tag", source.name().display());
     }
     Ok(())
 }

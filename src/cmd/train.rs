@@ -123,19 +123,27 @@ pub fn run(args: Args) -> Result<()> {
     inputs.extend(args.config.iter().cloned());
     inputs.extend(args.clusters.iter().cloned());
     lexiclade::atomic::refuse_overlap(&inputs, &args.model)?;
-    if args.model.exists() && !args.force {
-        bail!("{}: exists (use --force to replace it)", args.model.display());
-    }
+    // Created before the training, so that the commit can tell whether
+    // something appeared at (or changed under) M meanwhile.
+    let mut file = AtomicFile::create(&args.model, args.force)?;
     let spec =
         ColumnSpec { token: args.token_column, label: args.label_column };
     let config = match &args.config {
         Some(path) => FeatureConfig::read(path)?,
         None => FeatureConfig::default(),
     };
-    let config = config.check().with_context(|| match &args.config {
+    let config_name = match &args.config {
         Some(p) => p.display().to_string(),
         None => "default config".into(),
-    })?;
+    };
+    let config = config.check().with_context(|| config_name.clone())?;
+    if config.clusters.enabled == Some(true) && args.clusters.is_none() {
+        bail!(
+            "{config_name}: sets clusters.enabled = true, so --clusters DIR \
+             is needed (the -no-clusters configs are the baselines without \
+             clusters)"
+        );
+    }
     let paths = args.clusters.as_deref().map(Paths::read).transpose()?;
     if paths.is_some() && config.clusters.enabled == Some(false) && !args.quiet
     {
@@ -207,7 +215,6 @@ pub fn run(args: Args) -> Result<()> {
     model.version = VERSION.to_string();
     // Through AtomicFile rather than the library's own atomic save, so
     // that an interrupt removes the partial file too.
-    let mut file = AtomicFile::create(&args.model, args.force)?;
     file.writer().write_all(&lexiclade_tagger::model::encode(&model))?;
     file.commit()?;
     if !args.quiet {

@@ -197,6 +197,18 @@ pub fn prepare(
             None => Ok(paths.clone()),
         })
         .collect::<Result<Vec<_>>>()?;
+    // Found before any run rather than by every run.
+    for ((f, config), paths) in exp.features.iter().zip(&configs).zip(&paths) {
+        if config.clusters.enabled == Some(true) && paths.is_none() {
+            anyhow::bail!(
+                "{}: sets clusters.enabled = true, but feature set {:?} has \
+                 no clusters (give the experiment a [clusters] table or the \
+                 set a clusters directory)",
+                f.config.display(),
+                f.name
+            );
+        }
+    }
     Ok(Prepared { train, dev, test, scheme, paths, configs })
 }
 
