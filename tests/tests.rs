@@ -7,6 +7,7 @@ mod cluster;
 mod eval;
 mod faults;
 mod featurize;
+mod labels;
 mod outside;
 mod pos;
 mod show;
