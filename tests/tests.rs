@@ -4,6 +4,7 @@ mod util;
 
 mod ablate;
 mod cluster;
+mod count_files;
 mod eval;
 mod faults;
 mod featurize;

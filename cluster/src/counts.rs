@@ -150,6 +150,36 @@ impl Counter {
         true
     }
 
+    /// The id of `word`, if it has one.
+    pub(crate) fn id(&self, word: &str) -> Option<u32> {
+        self.ids.get(word).copied()
+    }
+
+    /// The word with id `id`.
+    pub(crate) fn word(&self, id: u32) -> &str {
+        &self.words[id as usize]
+    }
+
+    /// Every word's count so far, by id.
+    pub(crate) fn word_counts(&self) -> &[u64] {
+        &self.counts
+    }
+
+    /// Every bigram so far, `(left id, right id, count)`, in no fixed
+    /// order.
+    pub(crate) fn bigram_counts(
+        &self,
+    ) -> impl Iterator<Item = (u32, u32, u64)> + '_ {
+        self.bigrams.iter().map(|(&key, &count)| {
+            ((key >> 32) as u32, (key & 0xFFFF_FFFF) as u32, count)
+        })
+    }
+
+    /// The token and sentence totals so far.
+    pub(crate) fn totals(&self) -> (u64, u64) {
+        (self.tokens, self.sentences)
+    }
+
     /// Adds token and sentence totals. Returns `false`, adding nothing,
     /// when either would pass [`MAX_ADDED_TOTAL`].
     #[must_use]
