@@ -9,6 +9,7 @@ mod eval;
 mod faults;
 mod featurize;
 mod labels;
+mod normalize;
 mod outside;
 mod pos;
 mod show;

@@ -13,18 +13,19 @@
 //! | `meta` | `format_version` | `1` | empty |
 //! | `meta` | `tokenize` | `true` or `false` | empty |
 //! | `meta` | `lowercase` | `true` or `false` | empty |
+//! | `meta` | `nfc` | `true` or `false` | empty |
 //! | `total` | `tokens` or `sentences` | empty | the total |
 //! | `word` | the word | empty | its count |
 //! | `bigram` | the left word | the right word | its count |
 //!
-//! `lexiclade count` writes the three `meta` records first, then the
+//! `lexiclade count` writes the four `meta` records first, then the
 //! totals, the words (most frequent first) and the bigrams, unfiltered,
 //! and last `meta records N` (tab-separated) with the number of `word` and `bigram`
 //! records, so that a file cut short is noticed: a file with a
 //! `format_version` record must end with it.
 //! Every record but the words of the bigrams is optional in a file
 //! written by another engine (the plain form): without `meta` records a
-//! file counts as format 1 with `tokenize` and `lowercase` false; when no
+//! file counts as format 1 with `tokenize`, `lowercase` and `nfc` false; when no
 //! file has a total, `tokens` is the sum of the word counts and
 //! `sentences` the tokens minus the bigrams. Several records for one word
 //! or bigram add up, and so do several files. Words cannot contain tabs or
@@ -60,6 +61,7 @@ pub fn write(counts: &Counts, out: &mut dyn Write) -> std::io::Result<()> {
     writeln!(out, "meta\tformat_version\t{FORMAT_VERSION}\t")?;
     writeln!(out, "meta\ttokenize\t{}\t", counts.options.tokenize)?;
     writeln!(out, "meta\tlowercase\t{}\t", counts.options.lowercase)?;
+    writeln!(out, "meta\tnfc\t{}\t", counts.options.nfc)?;
     writeln!(out, "total\ttokens\t\t{}", counts.tokens)?;
     writeln!(out, "total\tsentences\t\t{}", counts.sentences)?;
     for (word, count) in counts.words.iter().zip(&counts.counts) {
@@ -325,7 +327,10 @@ fn locate<'a>(
 }
 
 fn describe(o: TokenOptions) -> String {
-    format!("tokenize {}, lowercase {}", o.tokenize, o.lowercase)
+    format!(
+        "tokenize {}, lowercase {}, nfc {}",
+        o.tokenize, o.lowercase, o.nfc
+    )
 }
 
 /// Reads one count file into `counter` (created with the file's flags
@@ -413,6 +418,7 @@ fn read_into(
                     }
                     "tokenize" => options.tokenize = flag(second)?,
                     "lowercase" => options.lowercase = flag(second)?,
+                    "nfc" => options.nfc = flag(second)?,
                     _ => return Err(bad("unknown meta record")),
                 }
             }
@@ -533,10 +539,13 @@ mod tests {
         // Bytes of text read is the one thing a count file cannot know.
         b.bytes = a.bytes;
         assert_eq!(a, b);
-        let opts = TokenOptions { tokenize: true, lowercase: true };
+        let opts = TokenOptions { tokenize: true, lowercase: true, nfc: true };
         let (a, b) = round_trip("Hi there, @ann!\nhi", opts);
         assert_eq!(a.words, b.words);
         assert_eq!(b.options, opts);
+        let nfc = TokenOptions { nfc: true, ..TokenOptions::default() };
+        let (_, b) = round_trip("cafe\u{301}", nfc);
+        assert_eq!((b.options, b.words), (nfc, vec!["caf\u{e9}".to_string()]));
     }
 
     #[test]

@@ -120,6 +120,7 @@ pub fn prepare(
                 let options = TokenOptions {
                     tokenize: c.tokenize,
                     lowercase: c.lowercase,
+                    ..TokenOptions::default()
                 };
                 let counts = Counts::from_sources(
                     &sources,
