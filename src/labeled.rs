@@ -56,8 +56,8 @@ impl LabeledFile {
         let invalid = detection.invalid.as_ref()?;
         let n = invalid.count;
         Some(format!(
-            "{}:{}: {} is invalid in {} ({} such label{} in the file; read \
-             with the CoNLL chunk rules: an I- after O starts a chunk)",
+            "{}:{}: {} is invalid in {} ({} such label{} in the file; \
+             chunks are read with the CoNLL rules, as eval reads them)",
             self.path.display(),
             self.line(invalid.site),
             invalid.what,

@@ -49,6 +49,10 @@ fn nfc_makes_one_word_of_two_spellings_and_is_recorded() {
     assert_eq!(plain.len(), nfc.len() + 1);
     assert_eq!(summary(&dir, "plain")["nfc"], false);
     assert_eq!(summary(&dir, "nfc")["nfc"], true);
+    let shown = lexiclade(dir.path(), &["show", "nfc"]).ok().stdout;
+    assert!(shown.contains("NFC"), "{shown}");
+    let shown = lexiclade(dir.path(), &["show", "plain"]).ok().stdout;
+    assert!(!shown.contains("NFC"), "{shown}");
 
     // The feature look-up puts words in NFC too: the decomposed spelling
     // finds the composed word's path.
