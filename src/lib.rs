@@ -11,6 +11,7 @@ pub mod demo;
 pub mod dendrogram;
 pub mod experiment;
 pub mod interrupt;
+pub mod labeled;
 pub mod progress;
 pub mod synth;
 

@@ -131,7 +131,7 @@ fn bad_models_and_inputs_are_one_line_errors() {
     flipped[last] ^= 0x40;
     dir.write("flipped.bin", &flipped);
     let mut other = bytes.clone();
-    other[8] = 2;
+    other[8] = 99;
     dir.write("v2.bin", &other);
     dir.write("text.bin", "not a model\n");
     let tag = |model: &str| {
@@ -139,7 +139,7 @@ fn bad_models_and_inputs_are_one_line_errors() {
     };
     tag("cut.bin").user_error("cut.bin: truncated model file");
     tag("flipped.bin").user_error("checksum mismatch");
-    tag("v2.bin").user_error("model format version 2 is not supported");
+    tag("v2.bin").user_error("model format version 99 is not supported");
     tag("text.bin").user_error("not a lexiclade model file");
     tag("missing.bin").user_error("missing.bin");
 

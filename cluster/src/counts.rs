@@ -7,6 +7,7 @@
 use rustc_hash::FxHashMap;
 
 use crate::error::{Error, Result};
+use crate::normalize;
 use crate::text::{split_tokens, LineReader, Source};
 use crate::tokenize::tokenize;
 
@@ -17,8 +18,14 @@ pub struct TokenOptions {
     /// [`tokenize`]) instead of taking the
     /// tokens separated by spaces and tabs as they are. Default: off.
     pub tokenize: bool,
-    /// Lowercase every token (Unicode lowercase mapping). Default: off.
+    /// Lowercase every token (the Unicode lowercase mapping of the whole
+    /// token, final sigma included; see [`crate::normalize`]). Default:
+    /// off.
     pub lowercase: bool,
+    /// Put every line in Unicode normalisation form C before splitting it
+    /// into tokens, so that composed and decomposed spellings of a word
+    /// count as one. Default: off (they are two words).
+    pub nfc: bool,
 }
 
 /// Streams text into word and bigram counts.
@@ -38,6 +45,8 @@ pub struct Counter {
     added_bigrams: u64,
     scratch: Vec<u32>,
     lower: String,
+    /// The current line in NFC, when `options.nfc` changes it.
+    composed: String,
 }
 
 /// The most that the word counts, the bigram counts or a total added
@@ -65,6 +74,17 @@ impl Counter {
     /// Counts one line of text. A line without tokens is not a sentence.
     pub fn add_line(&mut self, line: &str) {
         self.bytes += line.len() as u64 + 1;
+        if self.options.nfc && !normalize::is_nfc(line) {
+            let mut composed = std::mem::take(&mut self.composed);
+            normalize::nfc_into(line, &mut composed);
+            self.add_tokens(&composed);
+            self.composed = composed;
+        } else {
+            self.add_tokens(line);
+        }
+    }
+
+    fn add_tokens(&mut self, line: &str) {
         let mut ids = std::mem::take(&mut self.scratch);
         ids.clear();
         if self.options.tokenize {
@@ -90,15 +110,13 @@ impl Counter {
     }
 
     fn intern(&mut self, token: &str) -> u32 {
-        let token = if self.options.lowercase
-            && token.chars().any(|c| c.is_uppercase() || !c.is_ascii())
-        {
-            self.lower.clear();
-            self.lower.extend(token.chars().flat_map(char::to_lowercase));
-            self.lower.as_str()
-        } else {
-            token
-        };
+        let token =
+            if self.options.lowercase && normalize::needs_lowercasing(token) {
+                normalize::lowercase_into(token, &mut self.lower);
+                self.lower.as_str()
+            } else {
+                token
+            };
         let id =
             id_of(&mut self.ids, &mut self.words, &mut self.counts, token);
         self.counts[id as usize] += 1;
@@ -148,6 +166,36 @@ impl Counter {
         let key = (u64::from(l) << 32) | u64::from(r);
         *self.bigrams.entry(key).or_insert(0) += count;
         true
+    }
+
+    /// The id of `word`, if it has one.
+    pub(crate) fn id(&self, word: &str) -> Option<u32> {
+        self.ids.get(word).copied()
+    }
+
+    /// The word with id `id`.
+    pub(crate) fn word(&self, id: u32) -> &str {
+        &self.words[id as usize]
+    }
+
+    /// Every word's count so far, by id.
+    pub(crate) fn word_counts(&self) -> &[u64] {
+        &self.counts
+    }
+
+    /// Every bigram so far, `(left id, right id, count)`, in no fixed
+    /// order.
+    pub(crate) fn bigram_counts(
+        &self,
+    ) -> impl Iterator<Item = (u32, u32, u64)> + '_ {
+        self.bigrams.iter().map(|(&key, &count)| {
+            ((key >> 32) as u32, (key & 0xFFFF_FFFF) as u32, count)
+        })
+    }
+
+    /// The token and sentence totals so far.
+    pub(crate) fn totals(&self) -> (u64, u64) {
+        (self.tokens, self.sentences)
     }
 
     /// Adds token and sentence totals. Returns `false`, adding nothing,
@@ -361,9 +409,30 @@ mod tests {
 
     #[test]
     fn lowercase_merges_case_variants() {
-        let opts = TokenOptions { tokenize: false, lowercase: true };
+        let opts = TokenOptions { lowercase: true, ..TokenOptions::default() };
         let c = Counts::from_text("The the THE Ärger ärger", opts, 1);
         assert_eq!(c.words, vec!["the", "ärger"]);
         assert_eq!(c.counts, vec![3, 2]);
+    }
+
+    #[test]
+    fn lowercasing_takes_the_whole_word_final_sigma_included() {
+        let opts = TokenOptions { lowercase: true, ..TokenOptions::default() };
+        let c = Counts::from_text("ΣΟΦΟΣ σοφος ΣΟΦΌΣ", opts, 1);
+        assert_eq!(c.words, vec!["σοφος", "σοφός"]);
+        assert_eq!(c.counts, vec![2, 1]);
+    }
+
+    #[test]
+    fn nfc_makes_composed_and_decomposed_spellings_one_word() {
+        let text = "caf\u{e9} cafe\u{301}\ncafe\u{301}";
+        let c = Counts::from_text(text, TokenOptions::default(), 1);
+        assert_eq!(c.len(), 2, "without nfc they are two words");
+        let opts = TokenOptions { nfc: true, ..TokenOptions::default() };
+        let c = Counts::from_text(text, opts, 1);
+        assert_eq!(c.words, vec!["caf\u{e9}"]);
+        assert_eq!((c.counts[0], c.bigram_total()), (3, 1));
+        // The bytes read are those of the text as it was.
+        assert_eq!(c.bytes, text.len() as u64 + 1);
     }
 }

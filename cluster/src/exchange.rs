@@ -51,12 +51,14 @@
 
 use std::time::Instant;
 
+use ndarray::Array2;
 use serde::{Deserialize, Serialize};
 
 use crate::algorithm::{near_tie, Neighbours};
 use crate::ami::{bits, g};
 use crate::error::{Error, Result};
 use crate::kernels;
+use crate::window::row_of;
 
 /// The smallest AMI gain, in bits, for which a word moves: far above the
 /// rounding of `Δ` (about `1e-14` bits at a billion bigrams) and far
@@ -169,12 +171,12 @@ pub struct Observer<'a> {
 /// every entry, kept as words move.
 struct Table {
     c: usize,
-    /// `n[a * c + b]`: bigrams from class `a` to class `b`.
-    n: Vec<f64>,
+    /// `n[[a, b]]`: bigrams from class `a` to class `b`.
+    n: Array2<f64>,
     /// The transpose of `n`.
-    nt: Vec<f64>,
-    gn: Vec<f64>,
-    gnt: Vec<f64>,
+    nt: Array2<f64>,
+    gn: Array2<f64>,
+    gnt: Array2<f64>,
     left: Vec<f64>,
     right: Vec<f64>,
     gl: Vec<f64>,
@@ -184,18 +186,18 @@ struct Table {
 
 impl Table {
     fn new(graph: &Neighbours, class_of: &[u32], c: usize) -> Table {
-        let mut n = vec![0.0; c * c];
+        let mut n = Array2::zeros((c, c));
         for w in 0..class_of.len() {
             let a = class_of[w] as usize;
             for &(x, count) in graph.right_of(w) {
-                n[a * c + class_of[x as usize] as usize] += count as f64;
+                n[[a, class_of[x as usize] as usize]] += count as f64;
             }
         }
         let mut t = Table {
             c,
-            nt: vec![0.0; c * c],
-            gn: vec![0.0; c * c],
-            gnt: vec![0.0; c * c],
+            nt: Array2::zeros((c, c)),
+            gn: Array2::zeros((c, c)),
+            gnt: Array2::zeros((c, c)),
             n,
             left: vec![0.0; c],
             right: vec![0.0; c],
@@ -205,15 +207,21 @@ impl Table {
         };
         for a in 0..c {
             for b in 0..c {
-                let v = t.n[a * c + b];
-                t.nt[b * c + a] = v;
+                let v = t.n[[a, b]];
+                t.nt[[b, a]] = v;
                 t.left[a] += v;
                 t.right[b] += v;
                 t.total += v;
             }
         }
-        kernels::g_of(&t.n, &mut t.gn);
-        kernels::g_of(&t.nt, &mut t.gnt);
+        let g_of = |x: &Array2<f64>, out: &mut Array2<f64>| {
+            kernels::g_of(
+                x.as_slice().expect("standard layout"),
+                out.as_slice_mut().expect("standard layout"),
+            );
+        };
+        g_of(&t.n, &mut t.gn);
+        g_of(&t.nt, &mut t.gnt);
         kernels::g_of(&t.left, &mut t.gl);
         kernels::g_of(&t.right, &mut t.gr);
         t
@@ -235,12 +243,11 @@ impl Table {
     }
 
     fn add_cell(&mut self, a: usize, b: usize, v: f64) {
-        let c = self.c;
-        let x = self.n[a * c + b] + v;
-        self.n[a * c + b] = x;
-        self.nt[b * c + a] = x;
-        self.gn[a * c + b] = g(x);
-        self.gnt[b * c + a] = g(x);
+        let x = self.n[[a, b]] + v;
+        self.n[[a, b]] = x;
+        self.nt[[b, a]] = x;
+        self.gn[[a, b]] = g(x);
+        self.gnt[[b, a]] = g(x);
     }
 
     /// Adds (`sign` 1) or removes (`sign` −1) word `w`'s bigrams to or
@@ -268,13 +275,13 @@ impl Table {
         out.fill(0.0);
         for &k in &w.right_classes {
             // Cells (b, k) for every b: column k of n.
-            let col = &self.nt[k * c..(k + 1) * c];
-            let gcol = &self.gnt[k * c..(k + 1) * c];
+            let col = row_of(&self.nt, k);
+            let gcol = row_of(&self.gnt, k);
             kernels::add_cell_growth(w.right[k], col, gcol, out);
         }
         for &k in &w.left_classes {
-            let row = &self.n[k * c..(k + 1) * c];
-            let grow = &self.gn[k * c..(k + 1) * c];
+            let row = row_of(&self.n, k);
+            let grow = row_of(&self.gn, k);
             kernels::add_cell_growth(w.left[k], row, grow, out);
         }
         scratch.fill(0.0);
@@ -286,8 +293,8 @@ impl Table {
         // The cell (b, b): the sums above added R(b) and L(b) to it
         // separately; it takes R(b) + L(b) + s at once.
         let mut fix = |b: usize| {
-            let d = self.n[b * c + b];
-            let gd = self.gn[b * c + b];
+            let d = self.n[[b, b]];
+            let gd = self.gn[[b, b]];
             let (rb, lb) = (w.right[b], w.left[b]);
             let mut v = g(d + rb + lb + w.itself) - gd;
             if rb != 0.0 {

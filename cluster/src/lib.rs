@@ -44,6 +44,7 @@ pub mod counts;
 pub mod error;
 pub mod exchange;
 mod kernels;
+pub mod normalize;
 pub mod output;
 pub mod query;
 pub mod reference;

@@ -56,6 +56,11 @@ pub struct Summary {
     pub lowercase: bool,
     /// Whether raw text was tokenised.
     pub tokenize: bool,
+    /// Whether text was put in Unicode normalisation form C before it was
+    /// split into tokens (absent in directories from before the option:
+    /// false).
+    #[serde(default)]
+    pub nfc: bool,
     /// AMI in bits of the flat classes over all bigrams of clustered
     /// words.
     pub ami_bits: f64,
@@ -89,6 +94,7 @@ impl ClusterOutput<'_> {
             min_count: c.min_count,
             lowercase: c.options.lowercase,
             tokenize: c.options.tokenize,
+            nfc: c.options.nfc,
             ami_bits: self.hierarchy.ami_bits,
             version: version.to_string(),
             exchange: self.hierarchy.exchange.clone(),

@@ -144,6 +144,7 @@ impl ClusterTable {
                 min_count: 1,
                 lowercase: false,
                 tokenize: false,
+                nfc: false,
                 ami_bits: 0.0,
                 version: String::new(),
                 exchange: None,

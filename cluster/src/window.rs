@@ -1,12 +1,14 @@
 //! The state of the frequency window and its incremental pair-loss
 //! bookkeeping; [`crate::algorithm`] explains the formulas.
 //!
-//! Layout: dense row-major `cap × cap` tables indexed by slot, counts
+//! Layout: dense row-major `cap × cap` tables (`ndarray::Array2`)
+//! indexed by slot, the row kernels run on their rows as slices, counts
 //! held as `f64` (exact integers below 2^53) so that the hot loops run
 //! over contiguous `f64` slices and vectorise, `n ln n` included (see
 //! [`crate::ami::ln`]). The count table is kept together with its
 //! transpose, so that both a class's row and its column are contiguous.
 
+use ndarray::Array2;
 use rayon::prelude::*;
 
 use crate::algorithm::{near_tie, Merge};
@@ -20,15 +22,15 @@ const PARALLEL_MIN_PAIRS: usize = 1 << 14;
 /// The classes in the window.
 pub(crate) struct Window {
     cap: usize,
-    /// `n[a * cap + b]`: bigrams from class `a` to class `b`.
-    n: Vec<f64>,
+    /// `n[[a, b]]`: bigrams from class `a` to class `b`.
+    n: Array2<f64>,
     /// The transpose of `n`.
-    nt: Vec<f64>,
+    nt: Array2<f64>,
     left: Vec<f64>,
     right: Vec<f64>,
     /// The pair losses in units of `F`; symmetric, `INFINITY` on the
     /// diagonal and for inactive slots.
-    loss: Vec<f64>,
+    loss: Array2<f64>,
     best_val: Vec<f64>,
     best_idx: Vec<usize>,
     active: Vec<bool>,
@@ -61,11 +63,11 @@ impl Window {
     pub(crate) fn new(cap: usize, words: usize) -> Window {
         Window {
             cap,
-            n: vec![0.0; cap * cap],
-            nt: vec![0.0; cap * cap],
+            n: Array2::zeros((cap, cap)),
+            nt: Array2::zeros((cap, cap)),
             left: vec![0.0; cap],
             right: vec![0.0; cap],
-            loss: vec![f64::INFINITY; cap * cap],
+            loss: Array2::from_elem((cap, cap), f64::INFINITY),
             best_val: vec![f64::INFINITY; cap],
             best_idx: vec![0; cap],
             active: vec![false; cap],
@@ -96,8 +98,8 @@ impl Window {
         for a in 0..k {
             for b in 0..k {
                 let v = table[a * k + b];
-                w.n[a * cap + b] = v;
-                w.nt[b * cap + a] = v;
+                w.n[[a, b]] = v;
+                w.nt[[b, a]] = v;
                 w.left[a] += v;
                 w.right[b] += v;
                 w.total += v;
@@ -156,15 +158,15 @@ impl Window {
         self.fold_newest();
         let cap = self.cap;
         for &(a, c) in bigrams.right {
-            self.n[s * cap + a] += c;
-            self.nt[a * cap + s] += c;
+            self.n[[s, a]] += c;
+            self.nt[[a, s]] += c;
         }
         for &(a, c) in bigrams.left {
-            self.n[a * cap + s] += c;
-            self.nt[s * cap + a] += c;
+            self.n[[a, s]] += c;
+            self.nt[[s, a]] += c;
         }
-        self.n[s * cap + s] = bigrams.itself;
-        self.nt[s * cap + s] = bigrams.itself;
+        self.n[[s, s]] = bigrams.itself;
+        self.nt[[s, s]] = bigrams.itself;
         let mut d: Vec<usize> = bigrams
             .right
             .iter()
@@ -180,7 +182,7 @@ impl Window {
         let mut f_delta = g(itself);
         let (mut row_sum, mut col_sum) = (itself, itself);
         for &a in &d {
-            let (to, from) = (self.n[a * cap + s], self.n[s * cap + a]);
+            let (to, from) = (self.n[[a, s]], self.n[[s, a]]);
             row_sum += from;
             col_sum += to;
             f_delta += g(to) + g(from);
@@ -201,8 +203,8 @@ impl Window {
 
         // Rows of the neighbours: the new term x = s, and the change of
         // their marginals (and of their partners' where both changed).
-        let col_s = &self.nt[s * cap..(s + 1) * cap];
-        let row_s = &self.n[s * cap..(s + 1) * cap];
+        let col_s = row_of(&self.nt, s);
+        let row_s = row_of(&self.n, s);
         let gv = |x: &[f64]| {
             let mut out = vec![0.0; x.len()];
             kernels::g_of(x, &mut out);
@@ -247,9 +249,9 @@ impl Window {
             let (n, nt) = (&self.n, &self.nt);
             for_columns(&mut new_row, d.len(), |range, acc| {
                 for &x in &d {
-                    let (sx, xs) = (n[s * cap + x], n[x * cap + s]);
-                    let col_x = &nt[x * cap..(x + 1) * cap][range.clone()];
-                    let row_x = &n[x * cap..(x + 1) * cap][range.clone()];
+                    let (sx, xs) = (n[[s, x]], n[[x, s]]);
+                    let col_x = &row_of(nt, x)[range.clone()];
+                    let row_x = &row_of(n, x)[range.clone()];
                     without(acc, &range, x, |acc| {
                         kernels::add_phi_pair(sx, col_x, xs, row_x, acc)
                     });
@@ -258,9 +260,9 @@ impl Window {
         }
         let diag = self.diagonal();
         kernels::add_block_minus_marginals(
-            self.n[s * cap + s],
-            &self.n[s * cap..(s + 1) * cap],
-            &self.nt[s * cap..(s + 1) * cap],
+            self.n[[s, s]],
+            row_of(&self.n, s),
+            row_of(&self.nt, s),
             &diag,
             self.left[s],
             &self.left,
@@ -273,7 +275,7 @@ impl Window {
                 *v = f64::INFINITY;
             }
         }
-        self.loss[s * cap..(s + 1) * cap].copy_from_slice(&new_row);
+        row_of_mut(&mut self.loss, s).copy_from_slice(&new_row);
         self.newest = Some(s);
         self.finish_step(&rows, s, None, &active);
         #[cfg(debug_assertions)]
@@ -303,7 +305,7 @@ impl Window {
         let mut col_arg = vec![u64::MAX; cap];
         for &a in rows.iter().chain([&fresh]) {
             if Some(a) != skip {
-                let row = &self.loss[a * cap..(a + 1) * cap];
+                let row = row_of(&self.loss, a);
                 kernels::fold_col_min(
                     row,
                     a as u64,
@@ -315,19 +317,19 @@ impl Window {
         for &a in rows {
             for b in 0..cap {
                 if !self.mark[b] && b != fresh {
-                    self.loss[b * cap + a] = self.loss[a * cap + b];
+                    self.loss[[b, a]] = self.loss[[a, b]];
                 }
             }
         }
         for b in 0..cap {
             if b != fresh {
-                self.loss[b * cap + fresh] = self.loss[fresh * cap + b];
+                self.loss[[b, fresh]] = self.loss[[fresh, b]];
             }
         }
         if let Some(gone) = gone {
             for b in 0..cap {
-                self.loss[b * cap + gone] = f64::INFINITY;
-                self.loss[gone * cap + b] = f64::INFINITY;
+                self.loss[[b, gone]] = f64::INFINITY;
+                self.loss[[gone, b]] = f64::INFINITY;
             }
             self.best_val[gone] = f64::INFINITY;
         }
@@ -349,7 +351,7 @@ impl Window {
                 }
                 continue;
             }
-            let now = self.loss[b * cap + old_idx];
+            let now = self.loss[[b, old_idx]];
             if now <= old_val {
                 // Still the smallest; a smaller updated entry may beat it.
                 if col_min[b] < now {
@@ -378,7 +380,7 @@ impl Window {
             if !self.active[a] {
                 continue;
             }
-            let row = &self.loss[a * self.cap..(a + 1) * self.cap];
+            let row = row_of(&self.loss, a);
             let want = match self.newest {
                 Some(z) if z != a => kernels::row_min_without(row, z).0,
                 _ => kernels::row_min(row).0,
@@ -399,7 +401,7 @@ impl Window {
         }
         let cap = self.cap;
         for b in 0..cap {
-            let v = self.loss[b * cap + z];
+            let v = self.loss[[b, z]];
             if self.active[b] && v < self.best_val[b] {
                 self.best_val[b] = v;
                 self.best_idx[b] = z;
@@ -413,7 +415,7 @@ impl Window {
         let cap = self.cap;
         let (loss, skip) = (&self.loss, self.newest);
         let scan = |&a: &usize| {
-            let row = &loss[a * cap..(a + 1) * cap];
+            let row = row_of(loss, a);
             match skip {
                 Some(z) if z != a => kernels::row_min_without(row, z),
                 _ => kernels::row_min(row),
@@ -435,7 +437,7 @@ impl Window {
 
     /// The cells `(b, b)`.
     fn diagonal(&self) -> Vec<f64> {
-        (0..self.cap).map(|b| self.n[b * self.cap + b]).collect()
+        (0..self.cap).map(|b| self.n[[b, b]]).collect()
     }
 
     /// The pair to merge next, by the rule in [`crate::algorithm`].
@@ -444,8 +446,7 @@ impl Window {
         let scale = self.total.max(1.0);
         // Row minima leave out the newest word's column; its own row
         // holds those pairs.
-        let newest_row =
-            self.newest.map(|z| &self.loss[z * cap..(z + 1) * cap]);
+        let newest_row = self.newest.map(|z| row_of(&self.loss, z));
         let min = (0..cap)
             .filter(|&a| self.active[a])
             .map(|a| self.best_val[a])
@@ -458,7 +459,7 @@ impl Window {
             .filter(|&a| self.active[a] && has_tie(a))
             .min_by_key(|&a| self.node[a])
             .expect("at least two active classes");
-        let row = &self.loss[p * cap..(p + 1) * cap];
+        let row = row_of(&self.loss, p);
         let q = (0..cap)
             .filter(|&b| {
                 self.active[b] && b != p && near_tie(min, row[b], scale)
@@ -483,18 +484,14 @@ impl Window {
             }
         }
         let cap = self.cap;
-        let lost = self.loss[i * cap + j];
+        let lost = self.loss[[i, j]];
         let active: Vec<usize> = self
             .active_slots()
             .into_iter()
             .filter(|&a| a != i && a != j)
             .collect();
-        let support = |table: &[f64], c: usize| -> Vec<usize> {
-            active
-                .iter()
-                .copied()
-                .filter(|&a| table[c * cap + a] != 0.0)
-                .collect()
+        let support = |table: &Array2<f64>, c: usize| -> Vec<usize> {
+            active.iter().copied().filter(|&a| table[[c, a]] != 0.0).collect()
         };
         let (ti, tj) = (support(&self.nt, i), support(&self.nt, j));
         let (si, sj) = (support(&self.n, i), support(&self.n, j));
@@ -514,14 +511,8 @@ impl Window {
             self.mark[a] = true;
         }
         {
-            let (col_i, col_j) = (
-                &self.nt[i * cap..(i + 1) * cap],
-                &self.nt[j * cap..(j + 1) * cap],
-            );
-            let (row_i, row_j) = (
-                &self.n[i * cap..(i + 1) * cap],
-                &self.n[j * cap..(j + 1) * cap],
-            );
+            let (col_i, col_j) = (row_of(&self.nt, i), row_of(&self.nt, j));
+            let (row_i, row_j) = (row_of(&self.n, i), row_of(&self.n, j));
             let col = Fusion::new(col_i, col_j);
             let row = Fusion::new(row_i, row_j);
             let update = |a: usize, out: &mut [f64]| {
@@ -547,22 +538,11 @@ impl Window {
             // Terms x where o has bigrams: its cells with x fuse into k's.
             let terms: Vec<(usize, f64, f64, &[f64])> = so
                 .iter()
-                .map(|&x| {
-                    (
-                        x,
-                        n[k * cap + x],
-                        n[o * cap + x],
-                        &nt[x * cap..(x + 1) * cap],
-                    )
-                })
-                .chain(to.iter().map(|&x| {
-                    (
-                        x,
-                        n[x * cap + k],
-                        n[x * cap + o],
-                        &n[x * cap..(x + 1) * cap],
-                    )
-                }))
+                .map(|&x| (x, n[[k, x]], n[[o, x]], row_of(nt, x)))
+                .chain(
+                    to.iter()
+                        .map(|&x| (x, n[[x, k]], n[[x, o]], row_of(n, x))),
+                )
                 .collect();
             for_columns(&mut new_row, terms.len(), |range, acc| {
                 for &(x, kx, ox, others) in &terms {
@@ -574,18 +554,15 @@ impl Window {
             });
         }
         {
-            let n = |a: usize, b: usize| self.n[a * cap + b];
-            fn row(t: &[f64], a: usize, cap: usize) -> &[f64] {
-                &t[a * cap..(a + 1) * cap]
-            }
+            let n = |a: usize, b: usize| self.n[[a, b]];
             kernels::finish_merged_row(
-                row(&self.loss, k, cap),
+                row_of(&self.loss, k),
                 &self.left,
                 &self.right,
-                row(&self.n, k, cap),
-                row(&self.nt, k, cap),
-                row(&self.n, o, cap),
-                row(&self.nt, o, cap),
+                row_of(&self.n, k),
+                row_of(&self.nt, k),
+                row_of(&self.n, o),
+                row_of(&self.nt, o),
                 &self.diagonal(),
                 [self.left[k], self.right[k]],
                 [n(k, o), n(o, k)],
@@ -601,26 +578,26 @@ impl Window {
         } else {
             (j, i)
         };
-        let corner = self.n[keep * cap + keep]
-            + self.n[keep * cap + gone]
-            + self.n[gone * cap + keep]
-            + self.n[gone * cap + gone];
+        let corner = self.n[[keep, keep]]
+            + self.n[[keep, gone]]
+            + self.n[[gone, keep]]
+            + self.n[[gone, gone]];
         for x in 0..cap {
             if x != keep && x != gone {
-                self.n[keep * cap + x] += self.n[gone * cap + x];
-                self.n[x * cap + keep] += self.n[x * cap + gone];
+                self.n[[keep, x]] += self.n[[gone, x]];
+                self.n[[x, keep]] += self.n[[x, gone]];
             }
         }
-        self.n[keep * cap + keep] = corner;
+        self.n[[keep, keep]] = corner;
         for x in 0..cap {
-            self.n[gone * cap + x] = 0.0;
-            self.n[x * cap + gone] = 0.0;
+            self.n[[gone, x]] = 0.0;
+            self.n[[x, gone]] = 0.0;
         }
         for x in 0..cap {
-            self.nt[x * cap + keep] = self.n[keep * cap + x];
-            self.nt[keep * cap + x] = self.n[x * cap + keep];
-            self.nt[x * cap + gone] = 0.0;
-            self.nt[gone * cap + x] = 0.0;
+            self.nt[[x, keep]] = self.n[[keep, x]];
+            self.nt[[keep, x]] = self.n[[x, keep]];
+            self.nt[[x, gone]] = 0.0;
+            self.nt[[gone, x]] = 0.0;
         }
         self.left[keep] += self.left[gone];
         self.right[keep] += self.right[gone];
@@ -637,12 +614,12 @@ impl Window {
         self.active[gone] = false;
 
         // 4. Install the new row and retire the freed slot.
-        for v in &mut self.loss[keep * cap..(keep + 1) * cap] {
+        for v in row_of_mut(&mut self.loss, keep) {
             *v = f64::INFINITY;
         }
         for &b in &active {
             if !self.frozen[b] {
-                self.loss[keep * cap + b] = new_row[b];
+                self.loss[[keep, b]] = new_row[b];
             }
         }
         self.finish_step(&rows, keep, Some(gone), &active);
@@ -655,6 +632,16 @@ impl Window {
         };
         (merge, gone)
     }
+}
+
+/// Row `a` of a table, as a slice for the row kernels.
+pub(crate) fn row_of(table: &Array2<f64>, a: usize) -> &[f64] {
+    table.row(a).to_slice().expect("rows of a standard-layout table")
+}
+
+/// Row `a` of a table, as a mutable slice.
+pub(crate) fn row_of_mut(table: &mut Array2<f64>, a: usize) -> &mut [f64] {
+    table.row_mut(a).into_slice().expect("rows of a standard-layout table")
 }
 
 /// The change of `A(a, b)` over all `b` when the cells of two classes
@@ -747,7 +734,7 @@ fn without(
 /// Runs `update` on every row of `table` whose slot is marked, in
 /// parallel when `work` (pair updates) is large enough.
 fn update_rows<F>(
-    table: &mut [f64],
+    table: &mut Array2<f64>,
     cap: usize,
     mark: &[bool],
     work: usize,
@@ -755,6 +742,7 @@ fn update_rows<F>(
 ) where
     F: Fn(usize, &mut [f64]) + Sync,
 {
+    let table = table.as_slice_mut().expect("a standard-layout table");
     if work >= PARALLEL_MIN_PAIRS && rayon::current_num_threads() > 1 {
         table
             .par_chunks_mut(cap)

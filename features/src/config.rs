@@ -25,6 +25,16 @@ use crate::error::{Error, Result};
 /// The offsets a window may reach, left and right of the current token.
 pub const MAX_OFFSET: i32 = 5;
 
+/// The most `lexical.char_prefix_max` and `lexical.char_suffix_max` may
+/// be. An affix of 10 characters is already longer than most words (so
+/// longer ones mostly repeat the `w=` feature), and the bound keeps the
+/// affix features of any token, however long (a 4,000-character URL),
+/// at no more than 2 × 10 strings of at most 10 characters: without it a
+/// token of n characters gave n prefixes of up to n characters, O(n²)
+/// bytes. Taggers of the trade use affixes of up to 4 to 6 characters
+/// (common practice; no source).
+pub const MAX_AFFIX_LENGTH: usize = 10;
+
 /// A feature config as written in a TOML file, before it is checked.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields, default)]
@@ -103,11 +113,13 @@ pub struct LexicalFeatures {
     pub lowercase: bool,
     /// The word's first 1, 2, … characters (`pre1=` …). Default: true.
     pub char_prefixes: bool,
-    /// The longest character prefix emitted. At least 1. Default: 4.
+    /// The longest character prefix emitted. At least 1, at most
+    /// [`MAX_AFFIX_LENGTH`] (10). Default: 4.
     pub char_prefix_max: usize,
     /// The word's last 1, 2, … characters (`suf1=` …). Default: true.
     pub char_suffixes: bool,
-    /// The longest character suffix emitted. At least 1. Default: 4.
+    /// The longest character suffix emitted. At least 1, at most
+    /// [`MAX_AFFIX_LENGTH`] (10). Default: 4.
     pub char_suffix_max: usize,
     /// The word's shape class (`shape=`): capitals become `X`, lowercase
     /// letters `x`, other letters `a`, digits `d`, anything else stays,
@@ -234,6 +246,20 @@ impl FeatureConfig {
                     .to_string(),
             ));
         }
+        for (key, max) in [
+            ("lexical.char_prefix_max", l.char_prefix_max),
+            ("lexical.char_suffix_max", l.char_suffix_max),
+        ] {
+            if max > MAX_AFFIX_LENGTH {
+                return Err(Error::invalid(
+                    key,
+                    format!(
+                        "must be at most {MAX_AFFIX_LENGTH}, got {max} (longer \
+                         affixes mostly repeat the word itself)"
+                    ),
+                ));
+            }
+        }
         offsets_in_range(
             "lexical.neighbour_offsets",
             &l.neighbour_offsets,
@@ -343,6 +369,38 @@ mod tests {
             .join("../configs")
             .join(name);
         FeatureConfig::read(&path).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    #[test]
+    fn a_very_long_token_gets_boundedly_many_and_short_features() {
+        let mut config = FeatureConfig::default();
+        config.lexical.char_prefix_max = MAX_AFFIX_LENGTH;
+        config.lexical.char_suffix_max = MAX_AFFIX_LENGTH;
+        let err = {
+            let mut c = config.clone();
+            c.lexical.char_prefix_max = MAX_AFFIX_LENGTH + 1;
+            c.check().unwrap_err().to_string()
+        };
+        assert!(err.contains("must be at most 10, got 11"), "{err}");
+        let extractor =
+            crate::Extractor::new(config.check().unwrap(), None).unwrap();
+        let features = |token: &str| {
+            let mut out = crate::Features::new();
+            extractor.extract(&[token], &mut out);
+            out.token(0).map(String::from).collect::<Vec<String>>()
+        };
+        let long = "é".repeat(4000);
+        let (short, long) = (features(&"é".repeat(12)), features(&long));
+        assert_eq!(short.len(), long.len(), "{long:?}");
+        let affix_bytes: usize = long
+            .iter()
+            .filter(|f| f.starts_with("pre") || f.starts_with("suf"))
+            .map(String::len)
+            .sum();
+        // 20 affixes of at most 10 two-byte characters and their names.
+        assert!(
+            affix_bytes <= 2 * MAX_AFFIX_LENGTH * (6 + 2 * MAX_AFFIX_LENGTH)
+        );
     }
 
     #[test]
@@ -481,6 +539,14 @@ mod tests {
         );
         assert_eq!(
             rejected(|c| c.lexical.char_suffix_max = 0),
+            "lexical.char_suffix_max"
+        );
+        assert_eq!(
+            rejected(|c| c.lexical.char_prefix_max = MAX_AFFIX_LENGTH + 1),
+            "lexical.char_prefix_max"
+        );
+        assert_eq!(
+            rejected(|c| c.lexical.char_suffix_max = 4000),
             "lexical.char_suffix_max"
         );
         assert_eq!(

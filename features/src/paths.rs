@@ -9,14 +9,16 @@
 //! serialise in no fixed order; model files must not change between runs
 //! of the same training, so the sorted list won.
 //!
-//! The clusters may have been learned from lowercased text; the look-up
-//! then lowercases the word the same way the counter did (the Unicode
-//! lowercase mapping of each character), so `The` finds the path of
-//! `the`.
+//! The clusters may have been learned from text put in NFC and from
+//! lowercased text; the look-up then normalises the word the same way the
+//! counter did (NFC first, then the Unicode lowercase mapping of the whole
+//! word; see [`lexiclade_cluster::normalize`]), so `The` finds the path of
+//! `the`, `ΣΟΦΟΣ` that of `σοφος`, and a decomposed `café` that of the
+//! composed one.
 
-use std::{borrow::Cow, collections::HashMap, path::Path};
+use std::{collections::HashMap, path::Path};
 
-use lexiclade_cluster::ClusterTable;
+use lexiclade_cluster::{normalize::normalize, ClusterTable};
 use serde::{Deserialize, Serialize};
 
 use crate::error::Result;
@@ -35,6 +37,8 @@ pub struct Paths {
     /// The distinct paths, in the order their first word appears in the
     /// cluster table.
     paths: Vec<Box<str>>,
+    /// Whether the clusters were learned from text put in NFC.
+    nfc: bool,
 }
 
 impl Paths {
@@ -62,6 +66,7 @@ impl Paths {
             tokenize: table.summary.tokenize,
             words,
             paths,
+            nfc: table.summary.nfc,
         }
     }
 
@@ -72,18 +77,11 @@ impl Paths {
     }
 
     /// The path of `word`'s class, or `None` if it was not clustered.
-    /// Allocates only when the clusters were lowercased and `word` has a
-    /// character that lowercasing may change; [`Paths::path_with`] never
-    /// does.
+    /// Allocates only when normalising changes `word` (or may, for
+    /// lowercasing); [`Paths::path_with`] reuses a buffer instead.
     pub fn path(&self, word: &str) -> Option<&str> {
-        let key = if self.lowercase && needs_lowercasing(word) {
-            let mut lower = String::new();
-            lowercase_into(word, &mut lower);
-            Cow::Owned(lower)
-        } else {
-            Cow::Borrowed(word)
-        };
-        self.id_of(&key).map(|id| self.path_of_id(id))
+        let mut scratch = String::new();
+        self.id_with(word, &mut scratch).map(|id| self.path_of_id(id))
     }
 
     /// [`Paths::path`], lowercasing into `scratch` when needed instead of
@@ -98,12 +96,8 @@ impl Paths {
         word: &str,
         scratch: &mut String,
     ) -> Option<u32> {
-        if self.lowercase && needs_lowercasing(word) {
-            lowercase_into(word, scratch);
-            self.id_of(scratch)
-        } else {
-            self.id_of(word)
-        }
+        let key = normalize(word, self.nfc, self.lowercase, scratch);
+        self.id_of(key)
     }
 
     fn id_of(&self, key: &str) -> Option<u32> {
@@ -122,6 +116,12 @@ impl Paths {
     /// look-ups lowercase.
     pub fn lowercase(&self) -> bool {
         self.lowercase
+    }
+
+    /// Whether the clusters were learned from text put in NFC, so that
+    /// look-ups put words in NFC.
+    pub fn nfc(&self) -> bool {
+        self.nfc
     }
 
     /// Whether the clusters were learned from raw text split by the
@@ -146,18 +146,9 @@ impl Paths {
     }
 }
 
-/// True if lowercasing may change `word`; the same test the cluster
-/// counter uses, so look-ups and counts agree.
-pub(crate) fn needs_lowercasing(word: &str) -> bool {
-    word.chars().any(|c| c.is_uppercase() || !c.is_ascii())
-}
-
-/// Writes `word` lowercased into `out` (cleared first), character by
-/// character as the cluster counter does.
-pub(crate) fn lowercase_into(word: &str, out: &mut String) {
-    out.clear();
-    out.extend(word.chars().flat_map(char::to_lowercase));
-}
+pub(crate) use lexiclade_cluster::normalize::{
+    lowercase_into, needs_lowercasing,
+};
 
 /// The serialised form, checked before it becomes a [`Paths`].
 #[derive(Deserialize)]
@@ -167,6 +158,9 @@ struct RawPaths {
     tokenize: bool,
     words: Vec<(Box<str>, u32)>,
     paths: Vec<Box<str>>,
+    /// Absent in JSON from before the option: false.
+    #[serde(default)]
+    nfc: bool,
 }
 
 impl TryFrom<RawPaths> for Paths {
@@ -196,6 +190,7 @@ impl TryFrom<RawPaths> for Paths {
             tokenize: raw.tokenize,
             words: raw.words,
             paths: raw.paths,
+            nfc: raw.nfc,
         })
     }
 }
@@ -234,6 +229,7 @@ pub(crate) mod tests {
                 min_count: 1,
                 lowercase,
                 tokenize,
+                nfc: false,
                 ami_bits: 0.5,
                 version: "test".to_string(),
                 exchange: None,
@@ -273,10 +269,37 @@ pub(crate) mod tests {
         }
         assert_eq!(p.path("Über"), Some("10"));
         assert_eq!(p.path("STRAßE"), Some("11"));
+        // The whole word is lowercased, as the counter does: a final
+        // capital sigma finds the word with ς.
+        let greek = [("σοφος", "0")];
+        let p = Paths::from_table(&table(&greek, true, false));
+        assert_eq!(p.path("ΣΟΦΟΣ"), Some("0"));
+        assert_eq!(p.path_with("ΣΟΦΟΣ", &mut scratch), Some("0"));
+        let rows = [("the", "0"), ("über", "10"), ("straße", "11")];
         // Without the flag, case matters.
         let p = Paths::from_table(&table(&rows, false, false));
         assert_eq!(p.path("The"), None);
         assert_eq!(p.path_with("Über", &mut scratch), None);
+    }
+
+    #[test]
+    fn nfc_clusters_put_the_look_up_in_nfc() {
+        let composed = [("caf\u{e9}", "0"), ("CAF\u{c9}", "1")];
+        let mut t = table(&composed, false, false);
+        t.summary.nfc = true;
+        let p = Paths::from_table(&t);
+        assert!(p.nfc());
+        let mut scratch = String::new();
+        assert_eq!(p.path("cafe\u{301}"), Some("0"));
+        assert_eq!(p.path_with("CAFE\u{301}", &mut scratch), Some("1"));
+        // NFC then lowercasing, as the counter does.
+        t.summary.lowercase = true;
+        let p = Paths::from_table(&t);
+        assert_eq!(p.path("CAFE\u{301}"), Some("0"));
+        // Without the flag the two spellings are two words.
+        let p = Paths::from_table(&table(&composed, false, false));
+        assert_eq!(p.path("cafe\u{301}"), None);
+        assert_eq!(p.path("caf\u{e9}"), Some("0"));
     }
 
     #[test]

@@ -27,9 +27,12 @@ pub struct Args {
     inputs: Vec<PathBuf>,
     /// Cluster from count files written by `lexiclade count` (or any
     /// engine writing the plain form) instead of text; several are
-    /// summed. Their tokenising and lowercasing flags must agree and are
-    /// taken from the files, so --tokenize and --lowercase are refused.
-    #[arg(long, value_name = "COUNTS", num_args = 1.., conflicts_with_all = ["inputs", "tokenize", "lowercase"])]
+    /// summed. Their tokenising, lowercasing and NFC flags must agree and
+    /// are taken from the files, so --tokenize, --lowercase and --nfc are
+    /// refused. The summed counts must be ones some text could give
+    /// (every bigram's words listed, covered by their counts, totals that
+    /// match), or they are refused naming the record.
+    #[arg(long, value_name = "COUNTS", num_args = 1.., conflicts_with_all = ["inputs", "tokenize", "lowercase", "nfc"])]
     counts: Vec<PathBuf>,
     /// The output directory.
     #[arg(long, value_name = "DIR")]
@@ -59,9 +62,17 @@ pub struct Args {
     /// whole. Without it, tokens are taken as they are.
     #[arg(long)]
     tokenize: bool,
-    /// Lowercase every token before counting.
+    /// Lowercase every token before counting: the Unicode lowercase
+    /// mapping of the whole token (a final capital sigma becomes ς).
     #[arg(long)]
     lowercase: bool,
+    /// Put text in Unicode normalisation form C (canonical composition)
+    /// before splitting and counting it, so that a word spelt with a
+    /// precomposed letter and with a letter plus combining mark is one
+    /// word; without it they are two. Recorded in summary.json; the
+    /// tagger's cluster look-ups then normalise words the same way.
+    #[arg(long)]
+    nfc: bool,
     /// Worker threads for the merge phase, 1 to 1,024; the result is the
     /// same for any number. Default: the available cores, at most 8.
     #[arg(long, value_name = "N")]
@@ -106,8 +117,11 @@ pub fn run(args: Args) -> Result<()> {
     let bars = Bars::new(args.quiet);
     let started = Instant::now();
 
-    let options =
-        TokenOptions { tokenize: args.tokenize, lowercase: args.lowercase };
+    let options = TokenOptions {
+        tokenize: args.tokenize,
+        lowercase: args.lowercase,
+        nfc: args.nfc,
+    };
     let bar = bars.bytes("counting");
     let counts = if from_counts {
         let paths: Vec<&std::path::Path> =

@@ -27,9 +27,14 @@ pub struct Args {
     /// Split raw text as `cluster --tokenize` does.
     #[arg(long)]
     tokenize: bool,
-    /// Lowercase every token.
+    /// Lowercase every token (the whole token's Unicode lowercase
+    /// mapping, as `cluster --lowercase`).
     #[arg(long)]
     lowercase: bool,
+    /// Put text in Unicode normalisation form C before counting, as
+    /// `cluster --nfc`; recorded in the count file.
+    #[arg(long)]
+    nfc: bool,
     /// Replace COUNTS if it exists.
     #[arg(long)]
     force: bool,
@@ -52,8 +57,11 @@ pub fn run(args: Args) -> Result<()> {
         Some(AtomicFile::create(&args.out, args.force)?)
     };
     let bar = Bars::new(args.quiet).bytes("counting");
-    let options =
-        TokenOptions { tokenize: args.tokenize, lowercase: args.lowercase };
+    let options = TokenOptions {
+        tokenize: args.tokenize,
+        lowercase: args.lowercase,
+        nfc: args.nfc,
+    };
     let counts = Counts::from_sources(&sources, options, 1, &mut |b| {
         bar.set_position(b)
     })

@@ -8,7 +8,7 @@ use lexiclade_tagger::{
     columns::{read_columns, Column, ColumnFile, Sentence},
     eval::Evaluator,
     pipeline::TaggerModel,
-    scheme::Scheme,
+    scheme::{Detection, Detector, Scheme, Site},
 };
 
 /// Score predicted labels against gold labels: chunk-level precision,
@@ -32,9 +32,13 @@ pub struct Args {
     pred: PathBuf,
     /// The tag scheme of the labels: iob1, iob2 (or bio), iobes, or none
     /// (plain tags: token accuracy only). Default: detected from the gold
-    /// column: any S- or E- label means iobes; otherwise an I-X at a
-    /// sentence start, after O or after another type means iob1;
-    /// otherwise any B- or I- label means iob2; otherwise none.
+    /// column: any S- or E- label means iobes; otherwise any B-X not
+    /// right after another X label means iob2 (I-X chunk starts are then
+    /// warned about); otherwise an I-X at a sentence start, after O or
+    /// after another type means iob1; otherwise any B- or I- label means
+    /// iob2; otherwise none. A scheme the gold labels contradict is
+    /// warned about with the first contradicting line, and used: chunks
+    /// read the same in every scheme.
     #[arg(long, value_name = "S")]
     scheme: Option<Scheme>,
     /// A training file in the same column format, its token in the first
@@ -78,12 +82,28 @@ pub fn run(args: Args) -> Result<()> {
         |word: &str| vocabulary.as_ref().is_some_and(|v| v.contains(word));
 
     let labelled = labelled(&file)?;
-    let scheme = match args.scheme {
-        Some(scheme) => scheme,
+    let detector = Detector::of(labelled.iter().map(|(_, g, _)| g));
+    let at = |site: Site| {
+        let line = file.sentences[site.sentence].lines()[site.token];
+        format!("{}:{line}", file.path.display())
+    };
+    let detection = match args.scheme {
+        // Chunks are read with the same rules in every scheme, so a
+        // contradicted scheme changes no score: it is named in a warning
+        // rather than refused (training refuses it; there the scheme
+        // decides the labels written).
+        Some(scheme) => detector.check(scheme).unwrap_or_else(|c| {
+            eprintln!(
+                "lexiclade: warning: {}: gold label {c}; scored as {scheme} \
+                 anyway (the chunks read the same)",
+                at(c.first.site)
+            );
+            Detection { scheme, invalid: None }
+        }),
         None => {
-            let gold = Scheme::detect(labelled.iter().map(|(_, g, _)| g));
+            let gold = detector.detection();
             let predicted = Scheme::detect(labelled.iter().map(|(_, _, p)| p));
-            if !gold.has_chunks() && predicted.has_chunks() {
+            if !gold.scheme.has_chunks() && predicted.has_chunks() {
                 // Detection looks at the gold column only; all-O gold
                 // would silently hide every predicted chunk.
                 eprintln!(
@@ -95,6 +115,19 @@ pub fn run(args: Args) -> Result<()> {
             gold
         }
     };
+    if let Some(invalid) = &detection.invalid {
+        eprintln!(
+            "lexiclade: warning: {}: gold label {} is invalid in {} ({} \
+             such label{} in the gold column; chunks are read with the \
+             CoNLL rules)",
+            at(invalid.site),
+            invalid.what,
+            detection.scheme,
+            invalid.count,
+            if invalid.count == 1 { "" } else { "s" }
+        );
+    }
+    let scheme = detection.scheme;
     let model = args.model.as_deref().map(TaggerModel::load).transpose()?;
     let paths = model.as_ref().and_then(|m| m.extractor.paths());
     let has_path = |word: &str| paths.is_some_and(|p| p.path(word).is_some());

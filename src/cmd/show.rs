@@ -207,6 +207,9 @@ fn print_overview(
     if s.lowercase {
         text.push("lowercased");
     }
+    if s.nfc {
+        text.push("NFC");
+    }
     let text =
         if text.is_empty() { "as given".to_string() } else { text.join(", ") };
     writeln!(out, "clusters in {}", dir.display())?;

@@ -4,11 +4,16 @@
 use std::path::PathBuf;
 
 use anyhow::{bail, Context, Result};
-use lexiclade::{atomic::AtomicFile, progress::Bars, VERSION};
+use lexiclade::{
+    atomic::AtomicFile,
+    labeled::{choose_scheme, LabeledFile},
+    progress::Bars,
+    VERSION,
+};
 use lexiclade_features::{FeatureConfig, Paths};
 use lexiclade_tagger::{
-    columns::{read_columns, Column, ColumnSpec},
-    pipeline::{Labeled, TaggerModel, TrainParams},
+    columns::{Column, ColumnSpec},
+    pipeline::{TaggerModel, TrainParams},
     scheme::Scheme,
 };
 
@@ -68,7 +73,13 @@ pub struct Args {
     #[arg(long)]
     no_prune: bool,
     /// The tag scheme of the labels (iob1, iob2/bio, iobes, none).
-    /// Default: detected from the training labels.
+    /// Default: detected from the training labels: any S- or E- label
+    /// means iobes; otherwise any B-X not right after another X label
+    /// means iob2 (a few I-X chunk starts are then only warned about);
+    /// otherwise an I-X chunk start means iob1. A scheme the labels
+    /// contradict (iobes on labels with B-X followed by O, say) is
+    /// refused with the first contradicting line; the dev labels are
+    /// checked against the scheme too.
     #[arg(long, value_name = "S")]
     scheme: Option<Scheme>,
     /// The token column, 1-based; negative counts from the end.
@@ -79,7 +90,8 @@ pub struct Args {
         allow_hyphen_values = true
     )]
     token_column: Column,
-    /// The label column, 1-based; negative counts from the end.
+    /// The label column, 1-based; negative counts from the end. It must
+    /// be another column than the token's.
     #[arg(
         long,
         default_value = "-1",
@@ -90,30 +102,9 @@ pub struct Args {
     /// Replace the model file if it exists.
     #[arg(long)]
     force: bool,
-    /// No progress bars and no messages, only errors.
+    /// No progress bars, messages or warnings, only errors.
     #[arg(long, short)]
     quiet: bool,
-}
-
-/// Reads the labeled sentences of a column file, warning (unless
-/// `quiet`) when its rows mix tabs and spaces in a way that matters.
-pub fn read_labeled(
-    path: &std::path::Path,
-    spec: &ColumnSpec,
-    quiet: bool,
-) -> Result<Vec<Labeled>> {
-    let file = read_columns(path)?;
-    super::warn_mixed(&file, quiet);
-    file.sentences
-        .iter()
-        .map(|s| {
-            let tokens =
-                s.tokens(spec)?.into_iter().map(String::from).collect();
-            let labels =
-                s.labels(spec)?.into_iter().map(String::from).collect();
-            Ok(Labeled { tokens, labels })
-        })
-        .collect()
 }
 
 /// Runs the command.
@@ -155,12 +146,23 @@ pub fn run(args: Args) -> Result<()> {
              on the development file"
         );
     }
-    let train = read_labeled(&args.train, &spec, args.quiet)?;
+    let train = LabeledFile::read(&args.train, &spec)?;
     let dev = args
         .dev
         .as_deref()
-        .map(|d| read_labeled(d, &spec, args.quiet))
+        .map(|d| LabeledFile::read(d, &spec))
         .transpose()?;
+    let others: Vec<&LabeledFile> = dev.iter().collect();
+    let choice = choose_scheme(args.scheme, &train, &others)?;
+    if !args.quiet {
+        let mixed = std::iter::once(&train)
+            .chain(&dev)
+            .filter_map(|f| f.mixed.as_ref());
+        for warning in mixed.chain(&choice.warnings) {
+            eprintln!("lexiclade: warning: {warning}");
+        }
+    }
+    let (train, dev) = (train.sentences, dev.map(|d| d.sentences));
     if args.epochs == 0 {
         bail!("--epochs must be at least 1");
     }
@@ -168,7 +170,7 @@ pub fn run(args: Args) -> Result<()> {
         epochs: args.epochs,
         seed: args.seed,
         prune: !args.no_prune,
-        scheme: args.scheme,
+        scheme: Some(choice.scheme),
         refit: args.refit,
     };
     let bars = Bars::new(args.quiet);

@@ -9,7 +9,6 @@
 //! not depend on the number of threads or the order runs finish in.
 
 use std::collections::HashSet;
-use std::path::Path;
 use std::time::Instant;
 
 use anyhow::{Context, Result};
@@ -19,7 +18,7 @@ use lexiclade_cluster::{
 };
 use lexiclade_features::{FeatureConfig, Paths};
 use lexiclade_tagger::{
-    columns::{read_columns, Column, ColumnSpec},
+    columns::{Column, ColumnSpec},
     eval::Evaluator,
     pipeline::{Labeled, TagBuffers, TaggerModel, TrainParams},
     scheme::{chunks, Scheme},
@@ -31,6 +30,7 @@ use rayon::prelude::*;
 
 use super::config::Experiment;
 use super::stats::{Counts as SentenceCounts, Metric};
+use crate::labeled::LabeledFile;
 
 /// The data and clusters of an experiment, loaded once.
 pub struct Prepared {
@@ -91,38 +91,25 @@ pub fn prepare(
         label: Column::new(exp.data.label_column)
             .context("data.label_column is 0")?,
     };
-    let mut read = |path: &Path| -> Result<Vec<Labeled>> {
-        let file = read_columns(path)?;
-        if let Some(mixed) = file.mixed.filter(|m| m.differs.is_some()) {
-            notice(&format!("warning: {}: {mixed}", path.display()));
-        }
-        file.sentences
-            .iter()
-            .map(|s| {
-                Ok(Labeled {
-                    tokens: s
-                        .tokens(&spec)?
-                        .into_iter()
-                        .map(String::from)
-                        .collect(),
-                    labels: s
-                        .labels(&spec)?
-                        .into_iter()
-                        .map(String::from)
-                        .collect(),
-                })
-            })
-            .collect()
-    };
-    let train = read(&exp.data.train)?;
-    let dev = read(&exp.data.dev)?;
-    let test = read(&exp.data.test)?;
-    let scheme = match &exp.data.scheme {
+    let train = LabeledFile::read(&exp.data.train, &spec)?;
+    let dev = LabeledFile::read(&exp.data.dev, &spec)?;
+    let test = LabeledFile::read(&exp.data.test, &spec)?;
+    for mixed in [&train, &dev, &test].iter().filter_map(|f| f.mixed.as_ref())
+    {
+        notice(&format!("warning: {mixed}"));
+    }
+    let given = match &exp.data.scheme {
         Some(s) => {
-            s.parse().map_err(|e| anyhow::anyhow!("data.scheme: {e}"))?
+            Some(s.parse().map_err(|e| anyhow::anyhow!("data.scheme: {e}"))?)
         }
-        None => Scheme::detect(train.iter().map(|s| &s.labels)),
+        None => None,
     };
+    let choice = crate::labeled::choose_scheme(given, &train, &[&dev, &test])?;
+    for warning in &choice.warnings {
+        notice(&format!("warning: {warning}"));
+    }
+    let scheme = choice.scheme;
+    let (train, dev, test) = (train.sentences, dev.sentences, test.sentences);
     let paths = match &exp.clusters {
         None => None,
         Some(c) => Some(match &c.dir {
@@ -137,6 +124,7 @@ pub fn prepare(
                 let options = TokenOptions {
                     tokenize: c.tokenize,
                     lowercase: c.lowercase,
+                    ..TokenOptions::default()
                 };
                 let counts = Counts::from_sources(
                     &sources,

@@ -212,6 +212,29 @@ impl Sentence {
         }
         Ok(labels)
     }
+
+    /// The tokens and the labels for training or scoring: as
+    /// [`Sentence::tokens`] and [`Sentence::labels`], but refused (naming
+    /// the file and the sentence's first line) when both resolve to the
+    /// same column of its rows, as in a one-column file or with token and
+    /// label column 2 (or 2 and -1 in rows of two columns): the labels
+    /// would be the words.
+    pub fn labeled(
+        &self,
+        spec: &ColumnSpec,
+    ) -> Result<(Vec<&str>, Vec<&str>)> {
+        let tokens = self.tokens(spec)?;
+        if spec.token.resolve(self.width) == spec.label.resolve(self.width) {
+            return Err(Error::SameColumn {
+                path: self.path.to_path_buf(),
+                line: self.lines[0],
+                token: spec.token.get(),
+                label: spec.label.get(),
+                width: self.width,
+            });
+        }
+        Ok((tokens, self.labels(spec)?))
+    }
 }
 
 /// A whole column file in memory.
@@ -501,6 +524,38 @@ mod tests {
 
     fn read(input: &[u8]) -> Result<ColumnFile> {
         read_columns_from(input, Path::new("mem"))
+    }
+
+    #[test]
+    fn tokens_and_labels_must_be_two_columns() {
+        let spec = |t: isize, l: isize| ColumnSpec {
+            token: Column::new(t).unwrap(),
+            label: Column::new(l).unwrap(),
+        };
+        let one = read(b"\nword\nother\n").unwrap();
+        let err = one.sentences[0].labeled(&ColumnSpec::default());
+        assert_eq!(
+            err.unwrap_err().to_string(),
+            "mem:2: a row of 1 column: training needs a label column \
+             besides the token column"
+        );
+        let three = read(b"a x B-X\nb y O\n").unwrap();
+        let s = &three.sentences[0];
+        for (t, l) in [(2, 2), (2, -2), (-1, 3), (1, -3)] {
+            let err = s.labeled(&spec(t, l)).unwrap_err().to_string();
+            assert_eq!(
+                err,
+                format!(
+                    "mem:1: the token column ({t}) and the label column \
+                     ({l}) are the same column of a row of 3 columns: \
+                     training needs a label column besides the token column"
+                )
+            );
+        }
+        let (tokens, labels) = s.labeled(&spec(1, -1)).unwrap();
+        assert_eq!((tokens, labels), (vec!["a", "b"], vec!["B-X", "O"]));
+        let (tokens, labels) = s.labeled(&spec(-1, 2)).unwrap();
+        assert_eq!((tokens, labels), (vec!["B-X", "O"], vec!["x", "y"]));
     }
 
     fn rows(file: &ColumnFile) -> Vec<Vec<Vec<&str>>> {

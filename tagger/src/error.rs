@@ -63,6 +63,20 @@ pub enum Error {
         /// The number of columns the row has.
         width: usize,
     },
+    /// The token and the label column of a labeled file are the same
+    /// column of a row (a one-column file, say).
+    SameColumn {
+        /// The file concerned.
+        path: PathBuf,
+        /// The 1-based line number of the sentence's first row.
+        line: u64,
+        /// The token column as given.
+        token: isize,
+        /// The label column as given.
+        label: isize,
+        /// The number of columns of the row.
+        width: usize,
+    },
     /// A column file holds no token row at all.
     Empty {
         /// The file concerned.
@@ -171,6 +185,26 @@ impl fmt::Display for Error {
                 width,
                 plural(*width)
             ),
+            Error::SameColumn { path, line, width: 1, .. } => write!(
+                f,
+                "{}:{}: a row of 1 column: training needs a label column \
+                 besides the token column",
+                path.display(),
+                line
+            ),
+            Error::SameColumn { path, line, token, label, width } => {
+                write!(
+                    f,
+                    "{}:{}: the token column ({}) and the label column ({}) \
+                     are the same column of a row of {} columns: training \
+                     needs a label column besides the token column",
+                    path.display(),
+                    line,
+                    token,
+                    label,
+                    width
+                )
+            }
             Error::Empty { path } => {
                 write!(f, "{}: no token rows", path.display())
             }

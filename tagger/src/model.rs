@@ -25,8 +25,9 @@ use crate::error::{Error, Result};
 /// The magic bytes that open every model file.
 pub const MAGIC: &[u8; 8] = b"LXCLTAGR";
 
-/// The version of the model format this build writes and reads.
-pub const FORMAT_VERSION: u32 = 1;
+/// The version of the model format this build writes and reads: 2 since
+/// the cluster paths record NFC normalisation.
+pub const FORMAT_VERSION: u32 = 2;
 
 const HEADER: usize = 8 + 4 + 8 + 4;
 
@@ -143,7 +144,7 @@ mod tests {
         other[8] = 9;
         let m = msg(&other);
         assert!(
-            m.contains("version 9") && m.contains("reads version 1"),
+            m.contains("version 9") && m.contains("reads version 2"),
             "{m}"
         );
         let mut longer = bytes;

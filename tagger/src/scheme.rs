@@ -61,11 +61,7 @@ impl Scheme {
         L: AsRef<[S]>,
         S: AsRef<str>,
     {
-        let mut detector = Detector::default();
-        for sentence in sentences {
-            detector.observe(sentence.as_ref());
-        }
-        detector.scheme()
+        Detector::of(sentences).scheme()
     }
 }
 
@@ -193,53 +189,275 @@ pub fn chunks<S: AsRef<str>>(labels: &[S]) -> Vec<Chunk<'_>> {
     out
 }
 
+/// Where a label is: its sentence (0-based, in the order the sentences
+/// were observed) and its token in the sentence (0-based). Callers that
+/// know the file map it to a line.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct Site {
+    /// The sentence.
+    pub sentence: usize,
+    /// The token in the sentence.
+    pub token: usize,
+}
+
+/// Labels of one kind that a scheme does not allow: how many, and the
+/// first of them with a short description (`I-PLACE after O`).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Finding {
+    /// How many labels of this kind were seen.
+    pub count: usize,
+    /// The first of them.
+    pub site: Site,
+    /// The first of them in words, such as `I-PLACE after O` or `B-X
+    /// followed by O`.
+    pub what: String,
+}
+
+/// What [`Detector::detection`] and [`Detector::check`] found: the
+/// scheme, and the labels that are invalid under it (read anyway, with
+/// the chunk rules of the module docs), for a warning.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Detection {
+    /// The scheme of the labels.
+    pub scheme: Scheme,
+    /// Labels invalid under `scheme`, if any: `I-X` chunk starts under
+    /// IOB2; under IOBES every label a transition or an ending of IOBES
+    /// does not allow (see [`allowed`] and [`may_end`]).
+    pub invalid: Option<Finding>,
+}
+
+/// A scheme that the labels contradict: they hold a label the scheme
+/// never has and read as another scheme.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Contradiction {
+    /// The scheme that was given.
+    pub given: Scheme,
+    /// The scheme the labels read as.
+    pub found: Scheme,
+    /// The first contradicting label.
+    pub first: Finding,
+}
+
+impl fmt::Display for Contradiction {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let why = match (self.given, self.found) {
+            (_, Scheme::Iobes) => "E- and S- labels exist only in iobes",
+            (Scheme::Iobes, _) => {
+                "iobes starts every chunk with B- or S- and ends it with \
+                 E- or S-"
+            }
+            (Scheme::Iob1, _) => {
+                "iob1 has B-X only right after another X chunk"
+            }
+            _ => "iob2 starts every chunk with B-",
+        };
+        write!(
+            f,
+            "{} contradicts scheme {} ({why}; the labels read as {})",
+            self.first.what, self.given, self.found
+        )
+    }
+}
+
+/// A count of labels of one kind and the first of them.
+#[derive(Clone, Debug, Default)]
+struct Tally {
+    count: usize,
+    first: Option<(Site, String)>,
+}
+
+impl Tally {
+    fn add(&mut self, site: Site, what: impl FnOnce() -> String) {
+        self.count += 1;
+        if self.first.is_none() {
+            self.first = Some((site, what()));
+        }
+    }
+
+    fn finding(&self) -> Option<Finding> {
+        let (site, what) = self.first.clone()?;
+        Some(Finding { count: self.count, site, what })
+    }
+}
+
+/// The label before a token, in words: `at a sentence start` or `after
+/// O`.
+fn after(prev: Option<&str>) -> String {
+    match prev {
+        None => "at a sentence start".to_string(),
+        Some(p) => format!("after {p}"),
+    }
+}
+
 /// Tells the scheme of gold labels, sentence by sentence:
 ///
-/// - any `S-` or `E-` label: IOBES;
-/// - otherwise any `I-X` at a sentence start, after an outside label or
-///   after a label of another type: IOB1;
-/// - otherwise any `B-` or `I-` label: IOB2;
-/// - otherwise none.
+/// 1. any `S-` or `E-` label: IOBES (IOB1 and IOB2 never have them);
+/// 2. otherwise any `B-X` that does not directly follow a `B-X` or `I-X`
+///    (at a sentence start, after an outside label, after another type):
+///    IOB2, since IOB1 has `B-X` only between two X chunks;
+/// 3. otherwise any `I-X` starting a chunk (at a sentence start, after an
+///    outside label or after another type): IOB1;
+/// 4. otherwise any `B-` or `I-` label: IOB2;
+/// 5. otherwise none.
+///
+/// So a few stray `I-X` chunk starts in an IOB2 file (invalid in IOB2)
+/// leave it IOB2; they are counted and reported in
+/// [`Detection::invalid`]. A single `B-X` after `O` makes a file IOB2 even
+/// when its other chunks start with `I-`: such a file is no valid IOB1
+/// either, and the count of invalid `I-` starts in the warning shows it.
 #[derive(Clone, Debug, Default)]
 pub struct Detector {
-    end_or_single: bool,
-    iob1_start: bool,
+    sentences: usize,
+    /// `E-` and `S-` labels.
+    end_or_single: Tally,
+    /// `B-X` not directly after `B-X` or `I-X`.
+    begin_start: Tally,
+    /// `I-X` not directly after `B-X` or `I-X`.
+    inside_start: Tally,
+    /// Labels invalid under IOBES.
+    iobes_invalid: Tally,
     begin_or_inside: bool,
 }
 
 impl Detector {
+    /// A detector that has observed `sentences`.
+    pub fn of<I, L, S>(sentences: I) -> Detector
+    where
+        I: IntoIterator<Item = L>,
+        L: AsRef<[S]>,
+        S: AsRef<str>,
+    {
+        let mut detector = Detector::default();
+        for sentence in sentences {
+            detector.observe(sentence.as_ref());
+        }
+        detector
+    }
+
     /// Looks at one sentence's labels.
     pub fn observe<S: AsRef<str>>(&mut self, labels: &[S]) {
-        let mut prev: Parsed<'_> = None;
-        for label in labels {
-            let cur = split_label(label.as_ref());
+        let sentence = self.sentences;
+        self.sentences += 1;
+        let mut prev: Option<&str> = None;
+        for (token, label) in labels.iter().enumerate() {
+            let label = label.as_ref();
+            let site = Site { sentence, token };
+            let cur = split_label(label);
+            let parsed_prev = prev.and_then(split_label);
+            let continues = |kind: &str| {
+                matches!(
+                    parsed_prev,
+                    Some((Prefix::Begin | Prefix::Inside, k)) if k == kind
+                )
+            };
             match cur {
                 Some((Prefix::End | Prefix::Single, _)) => {
-                    self.end_or_single = true;
+                    self.end_or_single.add(site, || label.to_string());
                 }
                 Some((Prefix::Inside, kind)) => {
                     self.begin_or_inside = true;
-                    if prev.is_none_or(|(_, prev_kind)| prev_kind != kind) {
-                        self.iob1_start = true;
+                    if !continues(kind) {
+                        self.inside_start
+                            .add(site, || format!("{label} {}", after(prev)));
                     }
                 }
-                Some((Prefix::Begin, _)) => self.begin_or_inside = true,
+                Some((Prefix::Begin, kind)) => {
+                    self.begin_or_inside = true;
+                    if !continues(kind) {
+                        self.begin_start
+                            .add(site, || format!("{label} {}", after(prev)));
+                    }
+                }
                 None => {}
             }
-            prev = cur;
+            if !allowed(prev, label, Scheme::Iobes) {
+                // Name the label that is wrong: an open chunk that does not
+                // go on is the previous label's fault, a chunk continued
+                // from nothing this label's.
+                match (parsed_prev, prev) {
+                    (Some((Prefix::Begin | Prefix::Inside, _)), Some(p)) => {
+                        let site = Site { sentence, token: token - 1 };
+                        self.iobes_invalid
+                            .add(site, || format!("{p} followed by {label}"));
+                    }
+                    _ => self
+                        .iobes_invalid
+                        .add(site, || format!("{label} {}", after(prev))),
+                }
+            }
+            prev = Some(label);
+        }
+        if let Some(last) = prev.filter(|l| !may_end(l, Scheme::Iobes)) {
+            let site = Site { sentence, token: labels.len() - 1 };
+            self.iobes_invalid
+                .add(site, || format!("{last} at the end of a sentence"));
         }
     }
 
     /// The scheme of everything observed so far.
     pub fn scheme(&self) -> Scheme {
-        if self.end_or_single {
+        if self.end_or_single.count > 0 {
             Scheme::Iobes
-        } else if self.iob1_start {
+        } else if self.begin_start.count > 0 {
+            Scheme::Iob2
+        } else if self.inside_start.count > 0 {
             Scheme::Iob1
         } else if self.begin_or_inside {
             Scheme::Iob2
         } else {
             Scheme::None
+        }
+    }
+
+    /// The detected scheme and the labels invalid under it.
+    pub fn detection(&self) -> Detection {
+        self.under(self.scheme())
+    }
+
+    /// The labels invalid under `scheme`, which the labels do not
+    /// contradict.
+    fn under(&self, scheme: Scheme) -> Detection {
+        let invalid = match scheme {
+            Scheme::Iob2 => self.inside_start.finding(),
+            Scheme::Iobes => self.iobes_invalid.finding(),
+            Scheme::Iob1 | Scheme::None => None,
+        };
+        Detection { scheme, invalid }
+    }
+
+    /// Checks a scheme the user gave against the labels: refused when the
+    /// labels read as another chunk scheme, with the first label that
+    /// makes them ([`Contradiction`]); otherwise the given scheme with the
+    /// labels invalid under it, as for a detected one. Pair by pair:
+    ///
+    /// - iob1 or iob2 given, labels with `E-` or `S-`: the first of them;
+    /// - iob1 given, IOB2 labels: the first `B-X` not right after an X
+    ///   chunk;
+    /// - iob2 given, IOB1 labels: the first `I-X` chunk start (in IOB2
+    ///   labels such starts are only counted, as in detection);
+    /// - iobes given, IOB1 or IOB2 labels: the first label IOBES does not
+    ///   allow where it stands (`B-X` followed by `O`, `I-X` after `O`,
+    ///   `B-X` at a sentence end...);
+    /// - none given, or labels without chunk labels: never refused.
+    pub fn check(
+        &self,
+        given: Scheme,
+    ) -> std::result::Result<Detection, Contradiction> {
+        let found = self.scheme();
+        if found == given || !given.has_chunks() || !found.has_chunks() {
+            return Ok(self.under(given));
+        }
+        let tally = match (given, found) {
+            (_, Scheme::Iobes) => &self.end_or_single,
+            (Scheme::Iobes, _) => &self.iobes_invalid,
+            (_, Scheme::Iob2) => &self.begin_start,
+            _ => &self.inside_start,
+        };
+        match tally.finding() {
+            Some(first) => Err(Contradiction { given, found, first }),
+            // Unreachable by the rules of `scheme`, but a given scheme
+            // with nothing against it is fine.
+            None => Ok(self.under(given)),
         }
     }
 }
@@ -411,15 +629,157 @@ mod tests {
         assert_eq!(detect(&["I-X O", "S-Y"]), Scheme::Iobes);
         assert_eq!(detect(&["I-X I-X O"]), Scheme::Iob1);
         assert_eq!(detect(&["O I-X"]), Scheme::Iob1);
-        assert_eq!(detect(&["B-X I-Y"]), Scheme::Iob1);
-        assert_eq!(detect(&["B-X I-X", "O B-X", "O I-X"]), Scheme::Iob1);
+        // IOB1 has B-X only right after an X chunk.
+        assert_eq!(detect(&["I-X B-X I-X O I-Y"]), Scheme::Iob1);
+        assert_eq!(detect(&["I-X I-Y B-Y"]), Scheme::Iob1);
+        // Any B-X elsewhere means IOB2, whatever I- starts there are.
+        assert_eq!(detect(&["B-X I-Y"]), Scheme::Iob2);
+        assert_eq!(detect(&["B-X I-X", "O B-X", "O I-X"]), Scheme::Iob2);
+        assert_eq!(detect(&["I-X O", "I-Y B-X"]), Scheme::Iob2);
         assert_eq!(detect(&["B-X I-X O B-Y"]), Scheme::Iob2);
         assert_eq!(detect(&["B-X B-X", "O"]), Scheme::Iob2);
         assert_eq!(detect(&["O O", "O"]), Scheme::None);
         assert_eq!(detect(&["DT NN VBZ"]), Scheme::None);
         assert_eq!(detect(&[]), Scheme::None);
         // The previous sentence does not carry over.
-        assert_eq!(detect(&["B-X", "I-X"]), Scheme::Iob1);
+        assert_eq!(detect(&["I-X B-X", "B-X"]), Scheme::Iob2);
+    }
+
+    fn detector(sentences: &[&str]) -> Detector {
+        Detector::of(sentences.iter().map(|s| labels(s)))
+    }
+
+    fn finding(
+        count: usize,
+        sentence: usize,
+        token: usize,
+        what: &str,
+    ) -> Finding {
+        Finding { count, site: Site { sentence, token }, what: what.into() }
+    }
+
+    #[test]
+    fn stray_inside_starts_in_iob2_are_counted_with_the_first() {
+        // One B-PLACE after O turned into I-PLACE, twice.
+        let d = detector(&[
+            "O B-PER O B-PLACE",
+            "O B-PER I-PER O I-PLACE",
+            "I-PLACE O",
+            "B-PER O I-PLACE I-PLACE",
+        ]);
+        assert_eq!(
+            d.detection(),
+            Detection {
+                scheme: Scheme::Iob2,
+                invalid: Some(finding(3, 1, 4, "I-PLACE after O")),
+            }
+        );
+        assert_eq!(d.check(Scheme::Iob2), Ok(d.detection()));
+        // Clean IOB2 and IOB1 have nothing to warn about.
+        let clean = detector(&["B-X I-X O B-Y", "O B-X B-X"]);
+        assert_eq!(clean.detection().invalid, None);
+        let iob1 = detector(&["I-X I-X B-X O I-Y"]);
+        assert_eq!(
+            iob1.detection(),
+            Detection { scheme: Scheme::Iob1, invalid: None }
+        );
+        let start = detector(&["O", "I-Y O B-X"]);
+        assert_eq!(
+            start.detection().invalid,
+            Some(finding(1, 1, 0, "I-Y at a sentence start"))
+        );
+        let other = detector(&["B-X I-Y"]);
+        assert_eq!(
+            other.detection().invalid,
+            Some(finding(1, 0, 1, "I-Y after B-X"))
+        );
+    }
+
+    #[test]
+    fn labels_invalid_in_iobes_name_the_label_at_fault() {
+        let d = detector(&["S-X B-Y E-Y", "B-X O", "O I-X E-X", "O B-Y"]);
+        assert_eq!(
+            d.detection(),
+            Detection {
+                scheme: Scheme::Iobes,
+                invalid: Some(finding(3, 1, 0, "B-X followed by O")),
+            }
+        );
+        let end = detector(&["O B-Y"]);
+        assert_eq!(
+            end.check(Scheme::Iobes).unwrap_err().first,
+            finding(1, 0, 1, "B-Y at the end of a sentence")
+        );
+        let start = detector(&["O E-Y", "S-X"]);
+        assert_eq!(
+            start.detection().invalid,
+            Some(finding(1, 0, 1, "E-Y after O"))
+        );
+    }
+
+    /// `given` on `sentences`: the contradiction's found scheme and first
+    /// label, as `found: what @ sentence.token`.
+    fn contradiction(sentences: &[&str], given: Scheme) -> String {
+        match detector(sentences).check(given) {
+            Ok(d) => format!("ok {}", d.scheme),
+            Err(c) => {
+                assert_eq!(c.given, given);
+                format!(
+                    "{}: {} @ {}.{}",
+                    c.found,
+                    c.first.what,
+                    c.first.site.sentence,
+                    c.first.site.token
+                )
+            }
+        }
+    }
+
+    #[test]
+    fn every_contradicted_pair_of_schemes() {
+        use Scheme::{Iob1, Iob2, Iobes};
+        let iob1 = ["O I-X I-X", "I-Y B-Y O"];
+        let iob2 = ["O O", "O B-X I-X O B-Y"];
+        let iobes = ["O B-X E-X", "O S-Y O"];
+        // IOB1 labels.
+        assert_eq!(contradiction(&iob1, Iob1), "ok iob1");
+        assert_eq!(contradiction(&iob1, Iob2), "iob1: I-X after O @ 0.1");
+        assert_eq!(contradiction(&iob1, Iobes), "iob1: I-X after O @ 0.1");
+        // IOB2 labels: B-X followed by O needs S-X in IOBES.
+        assert_eq!(contradiction(&iob2, Iob2), "ok iob2");
+        assert_eq!(contradiction(&iob2, Iob1), "iob2: B-X after O @ 1.1");
+        assert_eq!(
+            contradiction(&iob2, Iobes),
+            "iob2: I-X followed by O @ 1.2"
+        );
+        assert_eq!(
+            contradiction(&["B-X O"], Iobes),
+            "iob2: B-X followed by O @ 0.0"
+        );
+        // IOBES labels.
+        assert_eq!(contradiction(&iobes, Iobes), "ok iobes");
+        assert_eq!(contradiction(&iobes, Iob1), "iobes: E-X @ 0.2");
+        assert_eq!(contradiction(&iobes, Iob2), "iobes: E-X @ 0.2");
+        // None given, or no chunk labels: nothing to contradict.
+        for labels in [&iob1, &iob2, &iobes] {
+            assert_eq!(contradiction(labels, Scheme::None), "ok none");
+        }
+        for given in [Iob1, Iob2, Iobes] {
+            assert_eq!(
+                contradiction(&["DT NN", "O"], given),
+                format!("ok {given}")
+            );
+        }
+        // A given scheme keeps its own warning.
+        let stray = detector(&["O B-X", "O I-X"]).check(Iob2).unwrap();
+        assert_eq!(stray.invalid, Some(finding(1, 1, 1, "I-X after O")));
+        let err = detector(&iob2).check(Iobes).unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "I-X followed by O contradicts scheme iobes (iobes starts every \
+             chunk with B- or S- and ends it with E- or S-; the labels read \
+             as iob2)"
+        );
     }
 
     #[test]
