@@ -47,7 +47,7 @@ use std::fmt::Write;
 
 use serde::{Deserialize, Serialize};
 
-use crate::config::{CheckedConfig, FeatureConfig};
+use crate::config::{Atom, AtomKind, CheckedConfig, FeatureConfig};
 use crate::error::{Error, Result};
 use crate::index::FeatureIndex;
 use crate::paths::{lowercase_into, needs_lowercasing, Paths};
@@ -64,6 +64,18 @@ pub struct Extractor {
     config: CheckedConfig,
     /// The clusters, if cluster features are on.
     paths: Option<Paths>,
+    /// The clusters of each `cluster_sets` entry, where it is on.
+    sets: Vec<Option<Paths>>,
+    /// The conjunctions parsed, those of sets that are off left out.
+    #[serde(skip)]
+    plan: Plan,
+}
+
+/// What the extractor works out of its config once.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+struct Plan {
+    /// Each conjunction that emits: its name and parts.
+    conjunctions: Vec<(String, Vec<Atom>)>,
 }
 
 impl Extractor {
@@ -79,12 +91,101 @@ impl Extractor {
         config: CheckedConfig,
         paths: Option<Paths>,
     ) -> Result<Extractor> {
+        Extractor::with_sets(config, paths, Vec::new())
+    }
+
+    /// [`Extractor::new`] with the clusters of the config's
+    /// `[[cluster_sets]]` by name. A set left out has no features unless
+    /// it sets `enabled = true`, a set that sets `enabled = false` drops
+    /// its clusters.
+    ///
+    /// # Errors
+    ///
+    /// [`Error::ClustersRequired`] as for `new`,
+    /// [`Error::SetRequired`] for a set with `enabled = true` not given,
+    /// and [`Error::UnknownSet`] for a name the config has no set of (or
+    /// a name given twice).
+    pub fn with_sets(
+        config: CheckedConfig,
+        paths: Option<Paths>,
+        sets: Vec<(String, Paths)>,
+    ) -> Result<Extractor> {
+        let mut by_set: Vec<Option<Paths>> =
+            vec![None; config.cluster_sets.len()];
+        for (name, p) in sets {
+            let k = config.cluster_sets.iter().position(|s| s.name == name);
+            match k {
+                Some(k) if by_set[k].is_none() => by_set[k] = Some(p),
+                _ => return Err(Error::UnknownSet { name }),
+            }
+        }
+        Extractor::from_parts(config, paths, by_set)
+    }
+
+    fn from_parts(
+        config: CheckedConfig,
+        paths: Option<Paths>,
+        sets: Vec<Option<Paths>>,
+    ) -> Result<Extractor> {
         let paths = match (config.clusters.enabled, paths) {
             (Some(false), _) => None,
             (Some(true), None) => return Err(Error::ClustersRequired),
             (_, paths) => paths,
         };
-        Ok(Extractor { config, paths })
+        if sets.len() != config.cluster_sets.len() {
+            return Err(Error::UnknownSet {
+                name: format!("{} sets for {}", sets.len(), config.cluster_sets.len()),
+            });
+        }
+        let mut on = Vec::new();
+        for (set, p) in config.cluster_sets.iter().zip(sets) {
+            on.push(match (set.enabled, p) {
+                (Some(false), _) => None,
+                (Some(true), None) => {
+                    return Err(Error::SetRequired { name: set.name.clone() })
+                }
+                (_, p) => p,
+            });
+        }
+        let mut plan = Plan::default();
+        for c in &config.conjunctions {
+            let atoms = c
+                .parts
+                .iter()
+                .map(|part| config.parse_atom(part))
+                .collect::<std::result::Result<Vec<Atom>, String>>()
+                .map_err(|reason| Error::InvalidField {
+                    field: "conjunctions".into(),
+                    reason,
+                })?;
+            let available = atoms.iter().all(|a| match a.kind {
+                AtomKind::Path { set: 0, .. } => paths.is_some(),
+                AtomKind::Path { set, .. } => on[set - 1].is_some(),
+                _ => true,
+            });
+            if available {
+                plan.conjunctions.push((c.name.clone(), atoms));
+            }
+        }
+        Ok(Extractor { config, paths, sets: on, plan })
+    }
+
+    /// The input columns the features read, as written in the config
+    /// (1-based, negative from the end), in the order the `columns`
+    /// argument of the extraction calls lists their values.
+    pub fn columns(&self) -> Vec<i64> {
+        self.config.get().columns.iter().map(|c| c.column).collect()
+    }
+
+    /// The names of the cluster sets whose clusters are in use, with
+    /// their clusters.
+    pub fn cluster_sets(&self) -> impl Iterator<Item = (&str, &Paths)> {
+        self.config
+            .get()
+            .cluster_sets
+            .iter()
+            .zip(&self.sets)
+            .filter_map(|(s, p)| Some((s.name.as_str(), p.as_ref()?)))
     }
 
     /// The config.
@@ -104,18 +205,41 @@ impl Extractor {
 
     /// Fills `out` with the features of every token of `tokens`, replacing
     /// what it held.
+    ///
+    /// # Panics
+    ///
+    /// If the config reads input columns ([`Extractor::columns`]): use
+    /// [`Extractor::extract_with`].
     pub fn extract<S: AsRef<str>>(&self, tokens: &[S], out: &mut Features) {
+        self.extract_with(tokens, &[], out);
+    }
+
+    /// [`Extractor::extract`] for a sentence with input columns:
+    /// `columns[k]` holds the values of the column
+    /// [`Extractor::columns`] lists `k`th, one per token.
+    ///
+    /// # Panics
+    ///
+    /// If `columns` lacks a column the config reads or a list is not as
+    /// long as `tokens`.
+    pub fn extract_with<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        columns: &[&[S]],
+        out: &mut Features,
+    ) {
         let Features { text, ends, token_ends, scratch } = out;
         text.clear();
         ends.clear();
         token_ends.clear();
-        self.walk(tokens, scratch, &mut |i, feature| {
+        let mut sink = |i: usize, feature: &str| {
             while token_ends.len() < i {
                 token_ends.push(ends.len());
             }
             text.push_str(feature);
             ends.push(text.len());
-        });
+        };
+        self.walk(tokens, columns, scratch, &mut sink, true);
         while token_ends.len() < tokens.len() {
             token_ends.push(ends.len());
         }
@@ -124,24 +248,30 @@ impl Extractor {
     /// Fills `out` with the ids in `index` of the features of every token
     /// of `tokens`, replacing what it held. Features not in the index are
     /// skipped. This is the call of the tagger's inner loop.
+    ///
+    /// # Panics
+    ///
+    /// As [`Extractor::extract_with`].
     pub fn extract_ids<S: AsRef<str>>(
         &self,
         index: &FeatureIndex,
         tokens: &[S],
+        columns: &[&[S]],
         out: &mut FeatureIds,
     ) {
         let FeatureIds { ids, starts, scratch } = out;
         ids.clear();
         starts.clear();
         starts.push(0);
-        self.walk(tokens, scratch, &mut |i, feature| {
+        let mut sink = |i: usize, feature: &str| {
             while starts.len() <= i {
                 starts.push(ids.len());
             }
             if let Some(id) = index.get(feature) {
                 ids.push(id);
             }
-        });
+        };
+        self.walk(tokens, columns, scratch, &mut sink, true);
         while starts.len() <= tokens.len() {
             starts.push(ids.len());
         }
@@ -153,10 +283,18 @@ impl Extractor {
     /// sentence), so each distinct word's strings are built and looked up
     /// once. The ids are the same as `extract_ids` gives, per token, but
     /// not in the same order.
+    ///
+    /// The features of cluster sets, input columns and conjunctions are
+    /// built and looked up for every token.
+    ///
+    /// # Panics
+    ///
+    /// As [`Extractor::extract_with`].
     pub fn extract_ids_cached<S: AsRef<str>>(
         &self,
         index: &FeatureIndex,
         tokens: &[S],
+        columns: &[&[S]],
         out: &mut FeatureIds,
         cache: &mut IdCache,
     ) {
@@ -185,7 +323,12 @@ impl Extractor {
                 cache.words.insert(word.into(), entry);
             }
         }
-        let FeatureIds { ids, starts, .. } = out;
+        let extra = self.has_extras();
+        if extra {
+            self.check_columns(tokens.len(), columns);
+            self.lookup_paths(tokens, &mut out.scratch);
+        }
+        let FeatureIds { ids, starts, scratch } = out;
         ids.clear();
         starts.clear();
         starts.push(0);
@@ -215,8 +358,28 @@ impl Extractor {
                     Err(_) => {}
                 }
             }
+            if extra {
+                let Scratch { feature, key, path_ids, set_ids } = scratch;
+                self.extra_features(
+                    i,
+                    tokens,
+                    columns,
+                    (path_ids, set_ids),
+                    feature,
+                    key,
+                    &mut |_, f| ids.extend(index.get(f)),
+                );
+            }
             starts.push(ids.len());
         }
+    }
+
+    /// Whether the config has features beyond those of single words.
+    fn has_extras(&self) -> bool {
+        let c = self.config.get();
+        self.sets.iter().any(Option::is_some)
+            || !c.columns.is_empty()
+            || !self.plan.conjunctions.is_empty()
     }
 
     /// The ids of the edge markers: per neighbour offset, then per path
@@ -262,7 +425,7 @@ impl Extractor {
         let mut local = Vec::new();
         // The word alone as a sentence: its features without brackets
         // are the ones that depend on it alone.
-        self.walk(&[word], scratch, &mut |_, feature| {
+        let mut sink = |_: usize, feature: &str| {
             let contextual = feature.starts_with("w[")
                 || feature.starts_with("path[")
                 || (feature.starts_with('p')
@@ -272,7 +435,9 @@ impl Extractor {
                     local.push(id);
                 }
             }
-        });
+        };
+        let none: &[&[&str]] = &[];
+        self.walk(&[word], none, scratch, &mut sink, false);
         let mut f = String::new();
         let neighbour = neighbour_offsets
             .iter()
@@ -328,25 +493,22 @@ impl Extractor {
     /// Calls `sink(token_index, feature)` for every feature of every
     /// token, tokens in order. The feature string is only lent: copy or
     /// intern it to keep it.
+    ///
+    /// # Panics
+    ///
+    /// As [`Extractor::extract_with`].
     pub fn for_each_feature<S: AsRef<str>>(
         &self,
         tokens: &[S],
+        columns: &[&[S]],
         scratch: &mut Scratch,
         mut sink: impl FnMut(usize, &str),
     ) {
-        self.walk(tokens, scratch, &mut sink);
+        self.walk(tokens, columns, scratch, &mut sink, true);
     }
 
-    fn walk<S: AsRef<str>>(
-        &self,
-        tokens: &[S],
-        s: &mut Scratch,
-        sink: &mut dyn FnMut(usize, &str),
-    ) {
-        let config = self.config.get();
-        let lex = &config.lexical;
-        let markers = config.boundary_markers;
-        let n = tokens.len();
+    /// Looks up the path of every token in every cluster set that is on.
+    fn lookup_paths<S: AsRef<str>>(&self, tokens: &[S], s: &mut Scratch) {
         s.path_ids.clear();
         if let Some(paths) = &self.paths {
             for t in tokens {
@@ -354,6 +516,33 @@ impl Extractor {
                 s.path_ids.push(id);
             }
         }
+        s.set_ids.clear();
+        for paths in self.sets.iter().flatten() {
+            for t in tokens {
+                let id = paths.id_with(t.as_ref(), &mut s.key);
+                s.set_ids.push(id);
+            }
+        }
+    }
+
+    /// Every feature of every token in order; with `extra` false, only
+    /// those of the words and `[clusters]` (the word-cached part).
+    fn walk<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        columns: &[&[S]],
+        s: &mut Scratch,
+        sink: &mut dyn FnMut(usize, &str),
+        extra: bool,
+    ) {
+        let config = self.config.get();
+        let lex = &config.lexical;
+        let markers = config.boundary_markers;
+        let n = tokens.len();
+        if extra {
+            self.check_columns(n, columns);
+        }
+        self.lookup_paths(tokens, s);
         let f = &mut s.feature;
         for (i, token) in tokens.iter().enumerate() {
             let word = token.as_ref();
@@ -476,8 +665,234 @@ impl Extractor {
                     }
                 }
             }
+            if extra {
+                let ids = (&s.path_ids[..], &s.set_ids[..]);
+                self.extra_features(
+                    i, tokens, columns, ids, f, &mut s.key, sink,
+                );
+            }
         }
     }
+
+    /// Panics unless `columns` holds one list of `n` values per
+    /// [`Extractor::columns`] entry.
+    fn check_columns<S: AsRef<str>>(&self, n: usize, columns: &[&[S]]) {
+        let want = self.config.get().columns.len();
+        assert!(
+            columns.len() >= want && columns[..want].iter().all(|c| c.len() == n),
+            "the extractor reads {want} input columns of {n} values"
+        );
+    }
+
+    /// The features of token `i` from the cluster sets, the input
+    /// columns and the conjunctions. `ids` are the path ids of
+    /// [`Extractor::lookup_paths`].
+    #[allow(clippy::too_many_arguments)]
+    fn extra_features<S: AsRef<str>>(
+        &self,
+        i: usize,
+        tokens: &[S],
+        columns: &[&[S]],
+        ids: (&[Option<u32>], &[Option<u32>]),
+        f: &mut String,
+        key: &mut String,
+        sink: &mut dyn FnMut(usize, &str),
+    ) {
+        let config = self.config.get();
+        let markers = config.boundary_markers;
+        let n = tokens.len();
+        let (path_ids, set_ids) = ids;
+        let mut on = 0;
+        for (set, paths) in config.cluster_sets.iter().zip(&self.sets) {
+            let Some(paths) = paths else { continue };
+            let ids = &set_ids[on * n..(on + 1) * n];
+            on += 1;
+            for &off in &set.window {
+                let at = position(i, off, n);
+                let id = match at {
+                    Ok(j) => ids[j],
+                    Err(_) if !markers => continue,
+                    Err(_) => None,
+                };
+                let head = |f: &mut String, what: &str| {
+                    f.clear();
+                    f.push_str(&set.name);
+                    f.push('.');
+                    f.push_str(what);
+                    f.push('[');
+                    push_offset(off, f);
+                };
+                let Some(id) = id else {
+                    head(f, "path");
+                    f.push_str("]:");
+                    f.push_str(at.err().unwrap_or("none"));
+                    sink(i, f);
+                    continue;
+                };
+                let path = paths.path_of_id(id);
+                for &len in &set.prefix_lengths {
+                    head(f, &format!("p{len}"));
+                    f.push_str("]=");
+                    f.push_str(&path[..len.min(path.len())]);
+                    sink(i, f);
+                }
+                if set.whole_path {
+                    head(f, "path");
+                    f.push_str("]=");
+                    f.push_str(path);
+                    sink(i, f);
+                }
+            }
+        }
+        for (k, c) in config.columns.iter().enumerate() {
+            let values = columns[k];
+            for &off in &c.window {
+                let at = position(i, off, n);
+                if at.is_err() && !markers {
+                    continue;
+                }
+                f.clear();
+                f.push_str(&c.name);
+                f.push('[');
+                push_offset(off, f);
+                match at {
+                    Ok(j) => {
+                        f.push_str("]=");
+                        f.push_str(values[j].as_ref());
+                    }
+                    Err(edge) => {
+                        f.push_str("]:");
+                        f.push_str(edge);
+                    }
+                }
+                sink(i, f);
+            }
+            'grams: for gram in &c.ngrams {
+                f.clear();
+                f.push_str(&c.name);
+                f.push('[');
+                for (g, &off) in gram.iter().enumerate() {
+                    if g > 0 {
+                        f.push(',');
+                    }
+                    push_offset(off, f);
+                }
+                f.push_str("]=");
+                for (g, &off) in gram.iter().enumerate() {
+                    if g > 0 {
+                        f.push('|');
+                    }
+                    match position(i, off, n) {
+                        Ok(j) => push_escaped(values[j].as_ref(), f),
+                        Err(_) if !markers => continue 'grams,
+                        Err(edge) => push_edge(edge, f),
+                    }
+                }
+                sink(i, f);
+            }
+        }
+        'joins: for (name, atoms) in &self.plan.conjunctions {
+            f.clear();
+            f.push_str(name);
+            f.push('=');
+            for (g, atom) in atoms.iter().enumerate() {
+                if g > 0 {
+                    f.push('|');
+                }
+                let j = match position(i, atom.offset, n) {
+                    Ok(j) => j,
+                    Err(_) if !markers => continue 'joins,
+                    Err(edge) => {
+                        push_edge(edge, f);
+                        continue;
+                    }
+                };
+                let word = tokens[j].as_ref();
+                match atom.kind {
+                    AtomKind::Word => push_escaped(word, f),
+                    AtomKind::Lower => {
+                        if needs_lowercasing(word) {
+                            lowercase_into(word, key);
+                            push_escaped(key, f);
+                        } else {
+                            push_escaped(word, f);
+                        }
+                    }
+                    AtomKind::Shape => {
+                        key.clear();
+                        push_shape(word, key);
+                        push_escaped(key, f);
+                    }
+                    AtomKind::Prefix(len) => {
+                        let end = word
+                            .char_indices()
+                            .nth(len)
+                            .map_or(word.len(), |(b, _)| b);
+                        push_escaped(&word[..end], f);
+                    }
+                    AtomKind::Suffix(len) => {
+                        let start = word
+                            .char_indices()
+                            .rev()
+                            .nth(len - 1)
+                            .map_or(0, |(b, _)| b);
+                        push_escaped(&word[start..], f);
+                    }
+                    AtomKind::Column(k) => {
+                        push_escaped(columns[k][j].as_ref(), f)
+                    }
+                    AtomKind::Path { set, bits } => {
+                        let (paths, id) = if set == 0 {
+                            (self.paths.as_ref(), path_ids.get(j).copied())
+                        } else {
+                            let on = self.sets[..set - 1]
+                                .iter()
+                                .filter(|p| p.is_some())
+                                .count();
+                            let id = set_ids.get(on * n + j).copied();
+                            (self.sets[set - 1].as_ref(), id)
+                        };
+                        // The plan keeps only conjunctions whose sets
+                        // are on.
+                        let (Some(paths), Some(id)) = (paths, id) else {
+                            continue 'joins;
+                        };
+                        match id {
+                            None => f.push_str("\\none"),
+                            Some(id) => {
+                                let path = paths.path_of_id(id);
+                                let len = bits.unwrap_or(path.len());
+                                f.push_str(&path[..len.min(path.len())]);
+                            }
+                        }
+                    }
+                }
+            }
+            sink(i, f);
+        }
+    }
+}
+
+/// Appends `value` with `\` and `|` escaped by a backslash, so that
+/// joined values can be told apart.
+fn push_escaped(value: &str, f: &mut String) {
+    if value.contains(['\\', '|']) {
+        for c in value.chars() {
+            if c == '\\' || c == '|' {
+                f.push('\\');
+            }
+            f.push(c);
+        }
+    } else {
+        f.push_str(value);
+    }
+}
+
+/// Appends the marker of a position beyond the sentence in a joined
+/// value: `\start` or `\end`, which no escaped value can be.
+fn push_edge(edge: &str, f: &mut String) {
+    f.push('\\');
+    f.push_str(edge);
 }
 
 /// Feature ids of words, kept across sentences by
@@ -583,6 +998,8 @@ pub struct Scratch {
     feature: String,
     key: String,
     path_ids: Vec<Option<u32>>,
+    /// The path ids in each cluster set that is on, set after set.
+    set_ids: Vec<Option<u32>>,
 }
 
 /// The features of every token of one sentence, as strings, filled by
@@ -718,13 +1135,14 @@ impl FeatureIds {
 struct RawExtractor {
     config: CheckedConfig,
     paths: Option<Paths>,
+    sets: Vec<Option<Paths>>,
 }
 
 impl TryFrom<RawExtractor> for Extractor {
     type Error = Error;
 
     fn try_from(raw: RawExtractor) -> Result<Extractor> {
-        Extractor::new(raw.config, raw.paths)
+        Extractor::from_parts(raw.config, raw.paths, raw.sets)
     }
 }
 
@@ -1106,7 +1524,7 @@ mod tests {
         let mut ids = FeatureIds::new();
         assert!(ids.is_empty());
         let index = FeatureIndex::from_sentences(&e, [["x"]]);
-        e.extract_ids(&index, &[] as &[&str], &mut ids);
+        e.extract_ids(&index, &[] as &[&str], &[], &mut ids);
         assert!(ids.is_empty() && ids.starts() == [0]);
     }
 
@@ -1120,7 +1538,7 @@ mod tests {
         let e = Extractor::new(c, Some(paths(false))).unwrap();
         let index = FeatureIndex::from_sentences(&e, [["the", "cat"]]);
         let mut ids = FeatureIds::new();
-        e.extract_ids(&index, &["cat", "dog", "the"], &mut ids);
+        e.extract_ids(&index, &["cat", "dog", "the"], &[], &mut ids);
         let names = index.names();
         let named: Vec<Vec<&str>> = (0..ids.len())
             .map(|i| {
@@ -1149,7 +1567,7 @@ mod tests {
         let tokens = ["The", "cat", "sat", "on", "the", "mat", "."];
         let mut seen: Vec<Vec<String>> = vec![Vec::new(); tokens.len()];
         let mut scratch = Scratch::default();
-        e.for_each_feature(&tokens, &mut scratch, |i, f| {
+        e.for_each_feature(&tokens, &[], &mut scratch, |i, f| {
             seen[i].push(f.to_string())
         });
         assert_eq!(seen, features(&e, &tokens));
@@ -1207,10 +1625,11 @@ mod tests {
                     (FeatureIds::new(), FeatureIds::new());
                 for round in 0..2 {
                     for s in sentences {
-                        e.extract_ids(&index, s, &mut plain);
+                        e.extract_ids(&index, s, &[], &mut plain);
                         e.extract_ids_cached(
                             &index,
                             s,
+                            &[],
                             &mut cached,
                             &mut cache,
                         );

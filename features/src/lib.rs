@@ -37,7 +37,7 @@
 //! let train = [vec!["Rust", "rocks"], vec!["Rust", "rusts"]];
 //! let index = FeatureIndex::from_sentences(&extractor, &train);
 //! let mut ids = FeatureIds::new();
-//! extractor.extract_ids(&index, &["Rust", "rules"], &mut ids);
+//! extractor.extract_ids(&index, &["Rust", "rules"], &[], &mut ids);
 //! assert_eq!(ids.token(0).len(), features.token(0).len());
 //! assert!(ids.token(1).len() < features.token(1).len());
 //! # Ok(())
