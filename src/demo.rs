@@ -166,6 +166,7 @@ pub fn run(
             lowercase: false,
             exchange_passes: 0,
         }),
+        cluster_sets: Default::default(),
         features: vec![
             FeatureSet {
                 name: "no clusters".into(),
@@ -173,6 +174,7 @@ pub fn run(
                 prefixes: None,
                 whole_path: None,
                 clusters: None,
+                cluster_sets: Default::default(),
             },
             FeatureSet {
                 name: "clusters".into(),
@@ -180,6 +182,7 @@ pub fn run(
                 prefixes: None,
                 whole_path: None,
                 clusters: None,
+                cluster_sets: Default::default(),
             },
         ],
         training: Training {

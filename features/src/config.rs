@@ -50,15 +50,12 @@ pub struct FeatureConfig {
     /// name, prefix lengths and window; their features are those of
     /// `[clusters]` with the set's name and a dot before them
     /// (`lower.p4[0]=0110`). Default: none.
-    #[serde(skip_serializing_if = "Vec::is_empty")]
     pub cluster_sets: Vec<ClusterSet>,
     /// Input columns other than the token and the label as features
     /// (`[[columns]]`). Default: none.
-    #[serde(skip_serializing_if = "Vec::is_empty")]
     pub columns: Vec<ColumnFeatures>,
     /// Features that join two or three atomic values into one
     /// (`[[conjunctions]]`). Default: none.
-    #[serde(skip_serializing_if = "Vec::is_empty")]
     pub conjunctions: Vec<Conjunction>,
 }
 

@@ -2,7 +2,7 @@
 
 use std::{io::Write, path::PathBuf};
 
-use anyhow::Result;
+use anyhow::{bail, Result};
 use lexiclade::atomic::AtomicFile;
 use lexiclade_cluster::{
     text::{split_tokens, LineReader, Source},
@@ -10,7 +10,7 @@ use lexiclade_cluster::{
 };
 use lexiclade_tagger::{
     columns::{read_columns, Column},
-    pipeline::{TagBuffers, TaggerModel},
+    pipeline::{feature_column_indexes, TagBuffers, TaggerModel},
 };
 
 /// Tag text with a model written by `lexiclade train`.
@@ -18,7 +18,10 @@ use lexiclade_tagger::{
 /// For column files, writes every input column and the predicted label
 /// as a last column, tab-separated, a blank line between sentences; with
 /// --plain, reads one sentence per line and writes the token and its
-/// label per line.
+/// label per line. A model whose config reads input columns
+/// ([[columns]]) reads them from the column files, numbered as at
+/// training, and refuses --plain text; the output of one model can be
+/// the input of another that reads the appended column.
 #[derive(clap::Args)]
 pub struct Args {
     /// The model file.
@@ -61,22 +64,60 @@ pub fn run(args: Args) -> Result<()> {
         lexiclade::atomic::refuse_overlap(&inputs, out)?;
     }
     let model = TaggerModel::load(&args.model)?;
+    let features = model.columns();
+    if args.plain && !features.is_empty() {
+        let (column, name) = features[0];
+        bail!(
+            "{}: the model reads input column {column} ({name}) as a \
+             feature, which --plain text does not have; tag a column file \
+             that holds it",
+            args.model.display()
+        );
+    }
     let mut work = TagBuffers::default();
-    let mut write = |out: &mut dyn Write| -> Result<()> {
+    // Column files are read and checked whole before anything is
+    // written, so that a bad row leaves no partial output.
+    let mut files = Vec::new();
+    if !args.plain {
         for input in &args.inputs {
-            if args.plain {
+            let file = read_columns(input)?;
+            let mut wanted = Vec::with_capacity(file.sentences.len());
+            for sentence in &file.sentences {
+                sentence.column(args.token_column)?;
+                wanted.push(feature_column_indexes(sentence, &features, None)?);
+            }
+            files.push((file, wanted));
+        }
+    }
+    let mut write = |out: &mut dyn Write| -> Result<()> {
+        if args.plain {
+            for input in &args.inputs {
                 tag_plain(&model, input, args.tokenize, &mut work, out)?;
-            } else {
-                let file = read_columns(input)?;
-                for sentence in &file.sentences {
-                    let tokens = sentence.column(args.token_column)?;
-                    let labels = model.tag(&tokens, &mut work);
-                    for (row, label) in labels.iter().enumerate() {
-                        let cells: Vec<&str> = sentence.row(row).collect();
-                        writeln!(out, "{}\t{}", cells.join("\t"), label)?;
+            }
+        }
+        for (file, wanted) in &files {
+            for (sentence, wanted) in file.sentences.iter().zip(wanted) {
+                let tokens = sentence.column(args.token_column)?;
+                let columns: Vec<Vec<&str>> = wanted
+                    .iter()
+                    .map(|&col| {
+                        (0..sentence.len())
+                            .map(|row| sentence.cell(row, col))
+                            .collect()
+                    })
+                    .collect();
+                let columns: Vec<&[&str]> =
+                    columns.iter().map(Vec::as_slice).collect();
+                let labels = model.tag_with(&tokens, &columns, &mut work);
+                for (row, label) in labels.iter().enumerate() {
+                    for cell in sentence.row(row) {
+                        out.write_all(cell.as_bytes())?;
+                        out.write_all(b"\t")?;
                     }
-                    writeln!(out)?;
+                    out.write_all(label.as_bytes())?;
+                    out.write_all(b"\n")?;
                 }
+                writeln!(out)?;
             }
         }
         Ok(())

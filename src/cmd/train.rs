@@ -5,10 +5,10 @@ use std::path::PathBuf;
 
 use anyhow::{bail, Context, Result};
 use lexiclade::{atomic::AtomicFile, progress::Bars, VERSION};
-use lexiclade_features::{FeatureConfig, Paths};
+use lexiclade_features::FeatureConfig;
 use lexiclade_tagger::{
     columns::{read_columns, Column, ColumnSpec},
-    pipeline::{Labeled, TaggerModel, TrainParams},
+    pipeline::{column_names, Labeled, TaggerModel, TrainParams},
     scheme::Scheme,
 };
 
@@ -33,11 +33,15 @@ pub struct Args {
     #[arg(long, value_name = "M")]
     model: PathBuf,
     /// A cluster directory written by `lexiclade cluster`: adds path
-    /// prefix features as the config asks.
-    #[arg(long, value_name = "DIR")]
-    clusters: Option<PathBuf>,
+    /// prefix features as the config's [clusters] asks. Repeat as
+    /// --clusters NAME=DIR for each of the config's [[cluster_sets]].
+    #[arg(long, value_name = "[NAME=]DIR")]
+    clusters: Vec<PathBuf>,
     /// The feature config (TOML, see configs/). Default: the built-in
-    /// defaults, which equal configs/ner.toml.
+    /// defaults, which equal configs/ner.toml. Its [[columns]] read
+    /// further input columns (a POS tag, say) of --train and --dev,
+    /// numbered as --token-column; the model records them, and `tag`
+    /// then needs them in its input.
     #[arg(long, value_name = "C")]
     config: Option<PathBuf>,
     /// Passes over the training sentences.
@@ -79,21 +83,17 @@ pub struct Args {
     quiet: bool,
 }
 
-/// Reads the labeled sentences of a column file.
+/// Reads the labeled sentences of a column file with the values of the
+/// feature columns `features`.
 pub fn read_labeled(
     path: &std::path::Path,
     spec: &ColumnSpec,
+    features: &[(i64, &str)],
 ) -> Result<Vec<Labeled>> {
     let file = read_columns(path)?;
     file.sentences
         .iter()
-        .map(|s| {
-            let tokens =
-                s.tokens(spec)?.into_iter().map(String::from).collect();
-            let labels =
-                s.labels(spec)?.into_iter().map(String::from).collect();
-            Ok(Labeled { tokens, labels })
-        })
+        .map(|s| Ok(Labeled::read(s, spec, features)?))
         .collect()
 }
 
@@ -102,7 +102,8 @@ pub fn run(args: Args) -> Result<()> {
     let mut inputs = vec![args.train.clone()];
     inputs.extend(args.dev.iter().cloned());
     inputs.extend(args.config.iter().cloned());
-    inputs.extend(args.clusters.iter().cloned());
+    let dirs = super::ClusterDirs::parse(&args.clusters)?;
+    inputs.extend(dirs.all());
     lexiclade::atomic::refuse_overlap(&inputs, &args.model)?;
     if args.model.exists() && !args.force {
         bail!("{}: exists (use --force to replace it)", args.model.display());
@@ -113,18 +114,24 @@ pub fn run(args: Args) -> Result<()> {
         Some(path) => FeatureConfig::read(path)?,
         None => FeatureConfig::default(),
     };
-    let config = config.check().with_context(|| match &args.config {
+    let config_name = match &args.config {
         Some(p) => p.display().to_string(),
         None => "default config".into(),
+    };
+    let config = config.check().with_context(|| config_name.clone())?;
+    let quiet = args.quiet;
+    let extractor = dirs.extractor(config, &config_name, &mut |notice| {
+        if !quiet {
+            eprintln!("lexiclade: notice: {notice}");
+        }
     })?;
-    let paths = args.clusters.as_deref().map(Paths::read).transpose()?;
-    if paths.is_some() && config.clusters.enabled == Some(false) && !args.quiet
-    {
-        eprintln!("lexiclade: notice: the config turns cluster features off; --clusters is unused");
-    }
-    let train = read_labeled(&args.train, &spec)?;
-    let dev =
-        args.dev.as_deref().map(|d| read_labeled(d, &spec)).transpose()?;
+    let features = column_names(&extractor);
+    let train = read_labeled(&args.train, &spec, &features)?;
+    let dev = args
+        .dev
+        .as_deref()
+        .map(|d| read_labeled(d, &spec, &features))
+        .transpose()?;
     if args.epochs == 0 {
         bail!("--epochs must be at least 1");
     }
@@ -136,12 +143,10 @@ pub fn run(args: Args) -> Result<()> {
     };
     let bars = Bars::new(args.quiet);
     let bar = bars.steps("epoch 1", train.len() as u64, "sentences");
-    let quiet = args.quiet;
     let mut model = TaggerModel::train(
         &train,
         dev.as_deref(),
-        config,
-        paths,
+        extractor,
         &params,
         &mut |done, _| bar.set_position(done as u64),
         &mut |report| {

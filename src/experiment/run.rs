@@ -17,7 +17,7 @@ use lexiclade_cluster::{
     cluster, cluster_refined, expand_inputs, ClusterOutput, ClusterParams,
     Counts, ExchangeParams, TokenOptions,
 };
-use lexiclade_features::{FeatureConfig, Paths};
+use lexiclade_features::{Extractor, FeatureConfig, Paths};
 use lexiclade_tagger::{
     columns::{read_columns, Column, ColumnSpec},
     eval::Evaluator,
@@ -47,6 +47,13 @@ pub struct Prepared {
     pub paths: Vec<Option<Paths>>,
     /// Feature configs, one per feature set, with overrides applied.
     pub configs: Vec<FeatureConfig>,
+    /// The clusters of named cluster sets per feature set: those its
+    /// config has and the experiment or the feature set gives.
+    pub sets: Vec<Vec<(String, Paths)>>,
+    /// Per feature set, the index in every sentence's `columns` of each
+    /// input column its config reads (sentences hold the union of the
+    /// columns of every feature set).
+    pub column_maps: Vec<Vec<usize>>,
 }
 
 /// One combination and what it gave.
@@ -91,24 +98,48 @@ pub fn prepare(
         label: Column::new(exp.data.label_column)
             .context("data.label_column is 0")?,
     };
+    let configs = exp
+        .features
+        .iter()
+        .map(|f| {
+            let mut config = FeatureConfig::read(&f.config)?;
+            if let Some(p) = &f.prefixes {
+                config.clusters.prefix_lengths = p.clone();
+            }
+            if let Some(w) = f.whole_path {
+                config.clusters.whole_path = w;
+            }
+            config
+                .clone()
+                .check()
+                .with_context(|| format!("feature set {:?}", f.name))?;
+            Ok(config)
+        })
+        .collect::<Result<Vec<_>>>()?;
+    // The union of the input columns every feature set reads.
+    let mut union: Vec<(i64, &str)> = Vec::new();
+    let column_maps: Vec<Vec<usize>> = configs
+        .iter()
+        .map(|c| {
+            c.columns
+                .iter()
+                .map(|col| {
+                    match union.iter().position(|u| u.0 == col.column) {
+                        Some(k) => k,
+                        None => {
+                            union.push((col.column, col.name.as_str()));
+                            union.len() - 1
+                        }
+                    }
+                })
+                .collect()
+        })
+        .collect();
     let read = |path: &Path| -> Result<Vec<Labeled>> {
         let file = read_columns(path)?;
         file.sentences
             .iter()
-            .map(|s| {
-                Ok(Labeled {
-                    tokens: s
-                        .tokens(&spec)?
-                        .into_iter()
-                        .map(String::from)
-                        .collect(),
-                    labels: s
-                        .labels(&spec)?
-                        .into_iter()
-                        .map(String::from)
-                        .collect(),
-                })
-            })
+            .map(|s| Ok(Labeled::read(s, &spec, &union)?))
             .collect()
     };
     let train = read(&exp.data.train)?;
@@ -165,24 +196,6 @@ pub fn prepare(
             }
         }),
     };
-    let configs = exp
-        .features
-        .iter()
-        .map(|f| {
-            let mut config = FeatureConfig::read(&f.config)?;
-            if let Some(p) = &f.prefixes {
-                config.clusters.prefix_lengths = p.clone();
-            }
-            if let Some(w) = f.whole_path {
-                config.clusters.whole_path = w;
-            }
-            config
-                .clone()
-                .check()
-                .with_context(|| format!("feature set {:?}", f.name))?;
-            Ok(config)
-        })
-        .collect::<Result<Vec<_>>>()?;
     let paths = exp
         .features
         .iter()
@@ -194,7 +207,40 @@ pub fn prepare(
             None => Ok(paths.clone()),
         })
         .collect::<Result<Vec<_>>>()?;
-    Ok(Prepared { train, dev, test, scheme, paths, configs })
+    let mut read_sets: Vec<(std::path::PathBuf, Paths)> = Vec::new();
+    let mut sets = Vec::new();
+    for (f, config) in exp.features.iter().zip(&configs) {
+        let mut mine = Vec::new();
+        for set in &config.cluster_sets {
+            let dir = f
+                .cluster_sets
+                .get(&set.name)
+                .or_else(|| exp.cluster_sets.get(&set.name));
+            let Some(dir) = dir else { continue };
+            let p = match read_sets.iter().find(|(d, _)| d == dir) {
+                Some((_, p)) => p.clone(),
+                None => {
+                    let p = Paths::read(dir).with_context(|| {
+                        format!("feature set {:?}", f.name)
+                    })?;
+                    read_sets.push((dir.clone(), p.clone()));
+                    p
+                }
+            };
+            mine.push((set.name.clone(), p));
+        }
+        sets.push(mine);
+    }
+    Ok(Prepared {
+        train,
+        dev,
+        test,
+        scheme,
+        paths,
+        configs,
+        sets,
+        column_maps,
+    })
 }
 
 fn display(paths: &[std::path::PathBuf]) -> String {
@@ -300,11 +346,22 @@ fn run_into(
     c: Combination,
     out: &mut RunResult,
 ) -> Result<()> {
-    let train = subset(&data.train, c.size, c.seed);
+    let map = &data.column_maps[c.features];
+    let own_columns = |s: &mut Labeled| {
+        s.columns = map.iter().map(|&k| s.columns[k].clone()).collect();
+    };
+    let mut train = subset(&data.train, c.size, c.seed);
+    train.iter_mut().for_each(own_columns);
+    let mut dev = data.dev.clone();
+    dev.iter_mut().for_each(own_columns);
+    let mut test = data.test.clone();
+    test.iter_mut().for_each(own_columns);
     let config = data.configs[c.features].clone().check()?;
     let uses_clusters = config.clusters.enabled != Some(false);
     let paths =
         if uses_clusters { data.paths[c.features].clone() } else { None };
+    let extractor =
+        Extractor::with_sets(config, paths, data.sets[c.features].clone())?;
     let params = TrainParams {
         epochs: exp.training.epochs,
         seed: c.seed,
@@ -315,9 +372,8 @@ fn run_into(
     let mut dev_best = 0.0f64;
     let model = TaggerModel::train(
         &train,
-        Some(&data.dev),
-        config,
-        paths,
+        Some(&dev),
+        extractor,
         &params,
         &mut |_, _| {},
         &mut |r| dev_best = dev_best.max(r.dev_score.unwrap_or(0.0)),
@@ -338,8 +394,9 @@ fn run_into(
         evaluator = evaluator.clustered_words(&has_path);
     }
     let mut work = TagBuffers::default();
-    for s in &data.test {
-        let predicted = model.tag(&s.tokens, &mut work);
+    for s in &test {
+        let columns = s.column_slices();
+        let predicted = model.tag_with(&s.tokens, &columns, &mut work);
         evaluator.add(&s.tokens, &s.labels, &predicted)?;
         out.sentences.push(sentence_counts(
             data.scheme,

@@ -26,7 +26,9 @@ use crate::error::{Error, Result};
 pub const MAGIC: &[u8; 8] = b"LXCLTAGR";
 
 /// The version of the model format this build writes and reads.
-pub const FORMAT_VERSION: u32 = 1;
+/// Version 2 added the input columns, conjunctions and further cluster
+/// sets of the feature config; version 1 files are refused.
+pub const FORMAT_VERSION: u32 = 2;
 
 const HEADER: usize = 8 + 4 + 8 + 4;
 
@@ -143,7 +145,8 @@ mod tests {
         other[8] = 9;
         let m = msg(&other);
         assert!(
-            m.contains("version 9") && m.contains("reads version 1"),
+            m.contains("version 9")
+                && m.contains(&format!("reads version {FORMAT_VERSION}")),
             "{m}"
         );
         let mut longer = bytes;
