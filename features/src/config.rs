@@ -286,8 +286,20 @@ pub struct Atom {
 /// The keys of the built-in templates and conjunction kinds, which a
 /// name may not take.
 const RESERVED: &[&str] = &[
-    "bias", "w", "lw", "shape", "path", "word", "lower", "initcap",
-    "allcaps", "hascap", "mixedcap", "hasdigit", "alldigits", "hashyphen",
+    "bias",
+    "w",
+    "lw",
+    "shape",
+    "path",
+    "word",
+    "lower",
+    "initcap",
+    "allcaps",
+    "hascap",
+    "mixedcap",
+    "hasdigit",
+    "alldigits",
+    "hashyphen",
     "allpunct",
 ];
 
@@ -320,7 +332,7 @@ pub fn check_name(name: &str) -> std::result::Result<(), String> {
 
 impl FeatureConfig {
     /// Parses a conjunction part such as `pos[-1]`, `word`, `p4[+1]` or
-    /// `lower.p6[0]` against this config's columns and cluster sets.
+    /// `lc.p6[0]` against this config's columns and cluster sets.
     pub fn parse_atom(&self, part: &str) -> std::result::Result<Atom, String> {
         let (kind, offset) = match part.split_once('[') {
             None => (part, 0),
@@ -569,38 +581,34 @@ impl FeatureConfig {
 /// names it in errors.
 fn check_cluster_keys(table: &str, c: &ClusterFeatures) -> Result<()> {
     let key = |k: &str| format!("{table}.{k}");
-        let clusters_on = c.enabled != Some(false);
-        if let Some(&bad) = c.prefix_lengths.iter().find(|&&n| n == 0) {
-            return Err(Error::invalid(
-                key("prefix_lengths"),
-                format!("each length must be at least 1, got {bad}"),
-            ));
-        }
-        no_repeats(&key("prefix_lengths"), &c.prefix_lengths)?;
-        if clusters_on && c.prefix_lengths.is_empty() && !c.whole_path {
-            return Err(Error::invalid(
-                key("prefix_lengths"),
-                format!(
-                    "empty, and whole_path is false: no cluster feature \
+    let clusters_on = c.enabled != Some(false);
+    if let Some(&bad) = c.prefix_lengths.iter().find(|&&n| n == 0) {
+        return Err(Error::invalid(
+            key("prefix_lengths"),
+            format!("each length must be at least 1, got {bad}"),
+        ));
+    }
+    no_repeats(&key("prefix_lengths"), &c.prefix_lengths)?;
+    if clusters_on && c.prefix_lengths.is_empty() && !c.whole_path {
+        return Err(Error::invalid(
+            key("prefix_lengths"),
+            format!(
+                "empty, and whole_path is false: no cluster feature \
                      is left (set {table}.enabled = false to turn them off)"
-                ),
-            ));
-        }
-        offsets_in_range(
-            &key("window"),
-            &c.window,
-            -MAX_OFFSET..=MAX_OFFSET,
-        )?;
-        no_repeats(&key("window"), &c.window)?;
-        if clusters_on && c.window.is_empty() {
-            return Err(Error::invalid(
-                key("window"),
-                format!(
-                    "empty: no cluster feature is left (set \
+            ),
+        ));
+    }
+    offsets_in_range(&key("window"), &c.window, -MAX_OFFSET..=MAX_OFFSET)?;
+    no_repeats(&key("window"), &c.window)?;
+    if clusters_on && c.window.is_empty() {
+        return Err(Error::invalid(
+            key("window"),
+            format!(
+                "empty: no cluster feature is left (set \
                      {table}.enabled = false to turn them off)"
-                ),
-            ));
-        }
+            ),
+        ));
+    }
     Ok(())
 }
 
@@ -901,5 +909,227 @@ mod tests {
         assert_ne!(bad, json);
         let e = serde_json::from_str::<CheckedConfig>(&bad).unwrap_err();
         assert!(e.to_string().contains("min_count"), "{e}");
+    }
+
+    const EXTRAS: &str = r#"
+        [[cluster_sets]]
+        name = "lc"
+        prefix_lengths = [2]
+        window = [0]
+        [[columns]]
+        name = "pos"
+        column = 2
+        window = [-1, 0]
+        ngrams = [[-1, 0], [-1, 0, 1]]
+        [[conjunctions]]
+        name = "wp"
+        parts = ["word", "pos[-1]"]
+        [[conjunctions]]
+        name = "pc"
+        parts = ["p4[-1]", "lc.p2[+1]", "suf3"]
+    "#;
+
+    #[test]
+    fn extras_parse_and_check() {
+        let c = FeatureConfig::from_toml(EXTRAS).unwrap();
+        assert_eq!(c.columns[0].column, 2);
+        assert_eq!(c.columns[0].ngrams, vec![vec![-1, 0], vec![-1, 0, 1]]);
+        assert_eq!(c.cluster_sets[0].prefix_lengths, vec![2]);
+        assert_eq!(c.cluster_sets[0].as_clusters().window, vec![0]);
+        let atoms: Vec<Atom> = c.conjunctions[1]
+            .parts
+            .iter()
+            .map(|p| c.parse_atom(p).unwrap())
+            .collect();
+        assert_eq!(
+            atoms,
+            [
+                Atom {
+                    kind: AtomKind::Path { set: 0, bits: Some(4) },
+                    offset: -1
+                },
+                Atom {
+                    kind: AtomKind::Path { set: 1, bits: Some(2) },
+                    offset: 1
+                },
+                Atom { kind: AtomKind::Suffix(3), offset: 0 },
+            ]
+        );
+        assert_eq!(
+            c.parse_atom("pos[-1]").unwrap(),
+            Atom { kind: AtomKind::Column(0), offset: -1 }
+        );
+        c.clone().check().unwrap();
+        // Defaults of a column entry: the value at offset 0, no n-grams.
+        let c = FeatureConfig::from_toml(
+            "[[columns]]\nname = \"tag\"\ncolumn = -2\n",
+        )
+        .unwrap();
+        assert_eq!(
+            (c.columns[0].window.clone(), c.columns[0].ngrams.len()),
+            (vec![0], 0)
+        );
+        // The TOML round trip keeps them.
+        let c = FeatureConfig::from_toml(EXTRAS).unwrap();
+        assert_eq!(FeatureConfig::from_toml(&c.to_toml()).unwrap(), c);
+    }
+
+    #[test]
+    fn unknown_keys_in_the_new_tables_are_refused() {
+        for (table, key) in [
+            ("[[columns]]\nname = \"a\"\ncolumn = 2\n", "colum"),
+            ("[[cluster_sets]]\nname = \"a\"\n", "prefixes"),
+            ("[[conjunctions]]\nname = \"a\"\nparts = []\n", "part"),
+        ] {
+            let text = format!("{table}{key} = 1\n");
+            let e = FeatureConfig::from_toml(&text).unwrap_err().to_string();
+            assert!(e.contains(key), "{e}");
+        }
+        // name and column are required.
+        let e = FeatureConfig::from_toml("[[columns]]\ncolumn = 2\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("name"), "{e}");
+    }
+
+    /// The refused field of `EXTRAS` with `from` replaced by `to`.
+    fn extras_rejected(from: &str, to: &str) -> (String, String) {
+        let text = EXTRAS.replacen(from, to, 1);
+        assert_ne!(text, EXTRAS, "{from:?} not in the fixture");
+        match FeatureConfig::from_toml(&text).unwrap().check() {
+            Err(Error::InvalidField { field, reason }) => (field, reason),
+            other => panic!("expected a refused field, got {other:?}"),
+        }
+    }
+
+    #[test]
+    fn check_names_each_bad_extra() {
+        let cases = [
+            (
+                "\"word\", \"pos[-1]\"",
+                "\"word\", \"tag[-1]\"",
+                "conjunctions[0].parts",
+                "unknown feature \"tag\"",
+            ),
+            (
+                "\"lc.p2[+1]\"",
+                "\"upper.p2[+1]\"",
+                "conjunctions[1].parts",
+                "no cluster set \"upper\"",
+            ),
+            ("\"suf3\"", "\"suf3[7]\"", "conjunctions[1].parts", "outside"),
+            (
+                "\"suf3\"",
+                "\"suf0\"",
+                "conjunctions[1].parts",
+                "unknown feature",
+            ),
+            (
+                "\"word\", \"pos[-1]\"",
+                "\"word\"",
+                "conjunctions[0].parts",
+                "2 or 3",
+            ),
+            (
+                "\"word\", \"pos[-1]\"",
+                "\"word\", \"word[0]\"",
+                "conjunctions[0].parts",
+                "twice",
+            ),
+            (
+                "column = 2",
+                "column = 0",
+                "columns[0].column",
+                "0 is no column",
+            ),
+            (
+                "window = [-1, 0]",
+                "window = [-1, 9]",
+                "columns[0].window",
+                "outside",
+            ),
+            (
+                "window = [-1, 0]\n        ngrams = [[-1, 0], [-1, 0, 1]]",
+                "window = []",
+                "columns[0].window",
+                "no feature",
+            ),
+            (
+                "[[-1, 0], [-1, 0, 1]]",
+                "[[-1, 1]]",
+                "columns[0].ngrams",
+                "consecutive",
+            ),
+            (
+                "[[-1, 0], [-1, 0, 1]]",
+                "[[0]]",
+                "columns[0].ngrams",
+                "consecutive",
+            ),
+            (
+                "[[-1, 0], [-1, 0, 1]]",
+                "[[0, 1], [0, 1]]",
+                "columns[0].ngrams",
+                "twice",
+            ),
+            ("name = \"pos\"", "name = \"lc\"", "columns[0].name", "already"),
+            ("name = \"pos\"", "name = \"p4\"", "columns[0].name", "built-in"),
+            ("name = \"pos\"", "name = \"w\"", "columns[0].name", "built-in"),
+            (
+                "name = \"pos\"",
+                "name = \"pos tag\"",
+                "columns[0].name",
+                "a name is",
+            ),
+            (
+                "name = \"wp\"",
+                "name = \"pos\"",
+                "conjunctions[0].name",
+                "already",
+            ),
+            (
+                "prefix_lengths = [2]",
+                "prefix_lengths = [0]",
+                "cluster_sets[0].prefix_lengths",
+                "at least 1",
+            ),
+            (
+                "window = [0]",
+                "window = []",
+                "cluster_sets[0].window",
+                "cluster_sets[0].enabled",
+            ),
+        ];
+        for (from, to, field, reason) in cases {
+            let got = extras_rejected(from, to);
+            assert_eq!(got.0, field, "{to}: {}", got.1);
+            assert!(got.1.contains(reason), "{to}: {}", got.1);
+        }
+    }
+
+    #[test]
+    fn names_are_checked() {
+        for good in ["pos", "chunk-tag", "x2", "pre", "p", "Upos"] {
+            check_name(good).unwrap();
+        }
+        for bad in [
+            "",
+            "2x",
+            "a.b",
+            "a=b",
+            "a:b",
+            "a[b",
+            "w",
+            "lw",
+            "path",
+            "p12",
+            "pre3",
+            "suf1",
+            "bias",
+            "initcap",
+            &"x".repeat(33),
+        ] {
+            assert!(check_name(bad).is_err(), "{bad:?}");
+        }
     }
 }

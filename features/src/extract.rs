@@ -134,7 +134,11 @@ impl Extractor {
         };
         if sets.len() != config.cluster_sets.len() {
             return Err(Error::UnknownSet {
-                name: format!("{} sets for {}", sets.len(), config.cluster_sets.len()),
+                name: format!(
+                    "{} sets for {}",
+                    sets.len(),
+                    config.cluster_sets.len()
+                ),
             });
         }
         let mut on = Vec::new();
@@ -679,7 +683,8 @@ impl Extractor {
     fn check_columns<S: AsRef<str>>(&self, n: usize, columns: &[&[S]]) {
         let want = self.config.get().columns.len();
         assert!(
-            columns.len() >= want && columns[..want].iter().all(|c| c.len() == n),
+            columns.len() >= want
+                && columns[..want].iter().all(|c| c.len() == n),
             "the extractor reads {want} input columns of {n} values"
         );
     }
@@ -1674,5 +1679,245 @@ mod tests {
         shared::<FeatureIndex>();
         shared::<Features>();
         shared::<FeatureIds>();
+    }
+
+    fn features_with(
+        e: &Extractor,
+        tokens: &[&str],
+        columns: &[&[&str]],
+    ) -> Vec<Vec<String>> {
+        let mut out = Features::new();
+        e.extract_with(tokens, columns, &mut out);
+        out.iter().map(|t| t.map(String::from).collect()).collect()
+    }
+
+    /// A config with only the extras of `toml` (no lexical templates, no
+    /// `[clusters]` features unless `toml` turns them on).
+    fn extras(toml: &str) -> CheckedConfig {
+        let mut c = FeatureConfig::from_toml(toml).unwrap();
+        let l = &mut c.lexical;
+        (l.word, l.lowercase, l.char_prefixes, l.char_suffixes) =
+            (false, false, false, false);
+        (l.shape, l.case_flags, l.char_flags, l.neighbours) =
+            (false, false, false, false);
+        c.check().unwrap()
+    }
+
+    #[test]
+    fn column_windows_and_ngrams() {
+        let c = extras(
+            "[[columns]]\nname = \"pos\"\ncolumn = 2\nwindow = [-1, 0]\n\
+             ngrams = [[-1, 0], [0, 1, 2]]\n",
+        );
+        let e = Extractor::new(c, None).unwrap();
+        assert_eq!(e.columns(), [2]);
+        let tags = ["DT", "N|N", "V\\"];
+        let got = features_with(&e, &["the", "cat", "sat"], &[&tags]);
+        let want: [&[&str]; 3] = [
+            &[
+                "bias",
+                "pos[-1]:start",
+                "pos[0]=DT",
+                "pos[-1,0]=\\start|DT",
+                "pos[0,+1,+2]=DT|N\\|N|V\\\\",
+            ],
+            &[
+                "bias",
+                "pos[-1]=DT",
+                "pos[0]=N|N",
+                "pos[-1,0]=DT|N\\|N",
+                "pos[0,+1,+2]=N\\|N|V\\\\|\\end",
+            ],
+            &[
+                "bias",
+                "pos[-1]=N|N",
+                "pos[0]=V\\",
+                "pos[-1,0]=N\\|N|V\\\\",
+                "pos[0,+1,+2]=V\\\\|\\end|\\end",
+            ],
+        ];
+        assert_eq!(got, want);
+        // Without markers, a window or n-gram beyond the sentence emits
+        // nothing.
+        let c = extras(
+            "boundary_markers = false\n[[columns]]\nname = \"pos\"\n\
+             column = -1\nwindow = [-1]\nngrams = [[0, 1]]\n",
+        );
+        let e = Extractor::new(c, None).unwrap();
+        let got = features_with(&e, &["a", "b"], &[&["X", "Y"]]);
+        assert_eq!(
+            got,
+            [vec!["bias", "pos[0,+1]=X|Y"], vec!["bias", "pos[-1]=X"]]
+        );
+    }
+
+    #[test]
+    fn conjunctions_of_every_kind() {
+        let c = extras(
+            "[clusters]\nprefix_lengths = [2]\nwindow = [0]\nenabled = true\n\
+             [[columns]]\nname = \"pos\"\ncolumn = 2\nwindow = []\nngrams = [[0, 1]]\n\
+             [[conjunctions]]\nname = \"wp\"\nparts = [\"word\", \"pos\"]\n\
+             [[conjunctions]]\nname = \"lx\"\nparts = [\"lower[-1]\", \"shape[+1]\"]\n\
+             [[conjunctions]]\nname = \"ax\"\nparts = [\"pre2\", \"suf2\", \"path\"]\n\
+             [[conjunctions]]\nname = \"pp\"\nparts = [\"p2[-1]\", \"p3\"]\n",
+        );
+        let e = Extractor::new(c, Some(paths(false))).unwrap();
+        let got =
+            features_with(&e, &["The", "cat", "zebra"], &[&["D|T", "N", "N"]]);
+        let want: [&[&str]; 3] = [
+            &[
+                "bias",
+                "path[0]:none",
+                "pos[0,+1]=D\\|T|N",
+                "wp=The|D\\|T",
+                "lx=\\start|x",
+                "ax=Th|he|\\none",
+                "pp=\\start|\\none",
+            ],
+            &[
+                "bias",
+                "p2[0]=01",
+                "pos[0,+1]=N|N",
+                "wp=cat|N",
+                "lx=the|x",
+                "ax=ca|at|011010",
+                "pp=\\none|011",
+            ],
+            &[
+                "bias",
+                "path[0]:none",
+                "pos[0,+1]=N|\\end",
+                "wp=zebra|N",
+                "lx=cat|\\end",
+                "ax=ze|ra|\\none",
+                "pp=01|\\none",
+            ],
+        ];
+        assert_eq!(got, want);
+        // Without clusters the conjunctions of paths emit nothing.
+        let c = extras(
+            "[[conjunctions]]\nname = \"pp\"\nparts = [\"p2[-1]\", \"word\"]\n\
+             [[conjunctions]]\nname = \"ww\"\nparts = [\"word[-1]\", \"word\"]\n",
+        );
+        let e = Extractor::new(c, None).unwrap();
+        assert_eq!(
+            features(&e, &["a", "b"]),
+            [["bias", "ww=\\start|a"], ["bias", "ww=a|b"]]
+        );
+    }
+
+    #[test]
+    fn cluster_sets_have_their_own_prefixes_and_windows() {
+        let toml = "[clusters]\nprefix_lengths = [2]\nwindow = [0]\n\
+                    [[cluster_sets]]\nname = \"lc\"\nprefix_lengths = [1, 3]\n\
+                    whole_path = true\nwindow = [1]\n\
+                    [[conjunctions]]\nname = \"both\"\nparts = [\"p2\", \"lc.path\"]\n";
+        let e = Extractor::with_sets(
+            extras(toml),
+            Some(paths(false)),
+            vec![("lc".into(), paths(true))],
+        )
+        .unwrap();
+        assert_eq!(e.cluster_sets().map(|s| s.0).collect::<Vec<_>>(), ["lc"]);
+        let got = features(&e, &["The", "cat"]);
+        let want: [&[&str]; 2] = [
+            &[
+                "bias",
+                "path[0]:none",
+                "lc.p1[+1]=0",
+                "lc.p3[+1]=011",
+                "lc.path[+1]=011010",
+                "both=\\none|0010",
+            ],
+            &["bias", "p2[0]=01", "lc.path[+1]:end", "both=01|011010"],
+        ];
+        assert_eq!(got, want);
+        // The set left out: no features of it, and no conjunction using it.
+        let e = Extractor::new(extras(toml), Some(paths(false))).unwrap();
+        assert_eq!(features(&e, &["cat"]), [["bias", "p2[0]=01"]]);
+        // Unknown names and required sets.
+        let err = Extractor::with_sets(
+            extras(toml),
+            None,
+            vec![("uc".into(), paths(true))],
+        )
+        .unwrap_err();
+        assert!(matches!(err, Error::UnknownSet { .. }), "{err:?}");
+        let required =
+            toml.replace("name = \"lc\"", "name = \"lc\"\nenabled = true");
+        let err = Extractor::new(extras(&required), None).unwrap_err();
+        assert!(err.to_string().contains("--clusters lc=DIR"), "{err}");
+        // Serialised with every set, and checked again on the way in.
+        let e = Extractor::with_sets(
+            extras(&required),
+            None,
+            vec![("lc".into(), paths(true))],
+        )
+        .unwrap();
+        let json = serde_json::to_string(&e).unwrap();
+        let back: Extractor = serde_json::from_str(&json).unwrap();
+        assert_eq!(back, e);
+        assert_eq!(
+            features(&back, &["The", "cat"]),
+            features(&e, &["The", "cat"])
+        );
+    }
+
+    /// The cached ids equal the uncached ones with every extra on.
+    #[test]
+    fn cached_ids_with_extras() {
+        let toml = "[clusters]\nprefix_lengths = [2]\n\
+                    [[cluster_sets]]\nname = \"lc\"\nprefix_lengths = [1]\n\
+                    [[columns]]\nname = \"pos\"\ncolumn = 2\nwindow = [-1, 0, 1]\n\
+                    ngrams = [[-1, 0]]\n\
+                    [[conjunctions]]\nname = \"wp\"\nparts = [\"word\", \"pos[1]\"]\n\
+                    [[conjunctions]]\nname = \"pl\"\nparts = [\"lc.p1[-1]\", \"p2\"]\n";
+        let mut c = FeatureConfig::from_toml(toml).unwrap();
+        c.clusters.whole_path = true;
+        let e = Extractor::with_sets(
+            c.check().unwrap(),
+            Some(paths(false)),
+            vec![("lc".into(), paths(true))],
+        )
+        .unwrap();
+        let sentences: [(&[&str], &[&str]); 3] = [
+            (&["The", "cat", "sat"], &["D", "N", "V"]),
+            (&["é", "cat"], &["X", "N"]),
+            (&["the", "zebra", "sat", "cat"], &["D", "N", "V", "Y"]),
+        ];
+        let mut builder = crate::FeatureIndexBuilder::new();
+        let mut buf = Features::new();
+        for (tokens, tags) in &sentences[..2] {
+            e.extract_with(*tokens, &[*tags], &mut buf);
+            builder.add(&buf);
+        }
+        let index = builder.build(1);
+        let mut cache = IdCache::new();
+        let (mut plain, mut cached) = (FeatureIds::new(), FeatureIds::new());
+        for (tokens, tags) in sentences {
+            e.extract_ids(&index, tokens, &[tags], &mut plain);
+            e.extract_ids_cached(
+                &index,
+                tokens,
+                &[tags],
+                &mut cached,
+                &mut cache,
+            );
+            for i in 0..tokens.len() {
+                let mut a = plain.token(i).to_vec();
+                let mut b = cached.token(i).to_vec();
+                a.sort_unstable();
+                b.sort_unstable();
+                assert_eq!(a, b, "{tokens:?} token {i}");
+            }
+        }
+    }
+
+    #[test]
+    #[should_panic(expected = "input columns")]
+    fn a_missing_column_list_is_a_caller_bug() {
+        let c = extras("[[columns]]\nname = \"pos\"\ncolumn = 2\n");
+        let e = Extractor::new(c, None).unwrap();
+        features(&e, &["a"]);
     }
 }

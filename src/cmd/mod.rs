@@ -85,7 +85,11 @@ impl ClusterDirs {
 
     /// Every directory, for the overlap check of outputs.
     pub fn all(&self) -> Vec<std::path::PathBuf> {
-        self.main.iter().cloned().chain(self.sets.iter().map(|s| s.1.clone())).collect()
+        self.main
+            .iter()
+            .cloned()
+            .chain(self.sets.iter().map(|s| s.1.clone()))
+            .collect()
     }
 
     /// Reads the directories and builds the extractor of `config`; a

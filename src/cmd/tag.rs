@@ -11,6 +11,7 @@ use lexiclade_cluster::{
 use lexiclade_tagger::{
     columns::{read_columns, Column},
     pipeline::{feature_column_indexes, TagBuffers, TaggerModel},
+    Error as TaggerError,
 };
 
 /// Tag text with a model written by `lexiclade train`.
@@ -84,7 +85,25 @@ pub fn run(args: Args) -> Result<()> {
             let mut wanted = Vec::with_capacity(file.sentences.len());
             for sentence in &file.sentences {
                 sentence.column(args.token_column)?;
-                wanted.push(feature_column_indexes(sentence, &features, None)?);
+                let found = feature_column_indexes(sentence, &features, None)
+                    .map_err(|e| match e {
+                        TaggerError::FeatureColumn {
+                            path,
+                            line,
+                            column,
+                            name,
+                            width,
+                        } => anyhow::anyhow!(
+                            "{}:{line}: the model {} reads column {column} \
+                             ({name}) as a feature, but the row has {width} \
+                             column{}",
+                            path.display(),
+                            args.model.display(),
+                            if width == 1 { "" } else { "s" }
+                        ),
+                        e => e.into(),
+                    })?;
+                wanted.push(found);
             }
             files.push((file, wanted));
         }

@@ -300,7 +300,8 @@ impl TaggerModel {
             .zip(gold)
             .map(|(s, gold)| {
                 let columns = s.column_slices();
-                let mut x = model.instance(&s.tokens, &columns, &mut ids, None);
+                let mut x =
+                    model.instance(&s.tokens, &columns, &mut ids, None);
                 x.labels = gold;
                 x
             })
@@ -365,9 +366,12 @@ impl TaggerModel {
                 ids,
                 cache,
             ),
-            None => {
-                self.extractor.extract_ids(&self.features, tokens, columns, ids)
-            }
+            None => self.extractor.extract_ids(
+                &self.features,
+                tokens,
+                columns,
+                ids,
+            ),
         }
         let starts = ids.starts().iter().map(|&s| s as u32).collect();
         let candidates = if self.dictionary.is_empty() {
