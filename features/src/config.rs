@@ -714,6 +714,8 @@ mod tests {
             "ner-no-clusters.toml",
             "pos.toml",
             "pos-no-clusters.toml",
+            "chunk.toml",
+            "chunk-no-clusters.toml",
         ] {
             shipped(name).check().unwrap_or_else(|e| panic!("{name}: {e}"));
         }
@@ -724,6 +726,7 @@ mod tests {
         for (with, without) in [
             ("ner.toml", "ner-no-clusters.toml"),
             ("pos.toml", "pos-no-clusters.toml"),
+            ("chunk.toml", "chunk-no-clusters.toml"),
         ] {
             let with = shipped(with);
             let mut without = shipped(without);
