@@ -175,7 +175,7 @@ fn bad_models_and_inputs_are_one_line_errors() {
 /// of the words cannot do better than chance, and the label is an XOR
 /// of two tags, which the single tags cannot express either: only the
 /// tag bigram can.
-fn tag_fixture(sentences: usize, seed: u64) -> String {
+pub(crate) fn tag_fixture(sentences: usize, seed: u64) -> String {
     let mut state = seed.wrapping_mul(6364136223846793005).wrapping_add(1);
     let mut next = |n: u64| {
         state = state
@@ -198,7 +198,7 @@ fn tag_fixture(sentences: usize, seed: u64) -> String {
     out
 }
 
-const TAG_CONFIG: &str = "iobes = false\n\
+pub(crate) const TAG_CONFIG: &str = "iobes = false\n\
     [[columns]]\nname = \"tag\"\ncolumn = 2\nwindow = [0]\nngrams = [[-1, 0]]\n";
 
 fn token_accuracy(dir: &Dir, pred: &str) -> f64 {
