@@ -1888,7 +1888,7 @@ mod tests {
         let mut builder = crate::FeatureIndexBuilder::new();
         let mut buf = Features::new();
         for (tokens, tags) in &sentences[..2] {
-            e.extract_with(*tokens, &[*tags], &mut buf);
+            e.extract_with(tokens, &[*tags], &mut buf);
             builder.add(&buf);
         }
         let index = builder.build(1);
