@@ -8,6 +8,7 @@
 //! function of its combination, so the results (all but the timings) do
 //! not depend on the number of threads or the order runs finish in.
 
+use std::borrow::Cow;
 use std::collections::HashSet;
 use std::path::Path;
 use std::time::Instant;
@@ -340,9 +341,9 @@ fn run_one(exp: &Experiment, data: &Prepared, c: Combination) -> RunResult {
     result
 }
 
-fn run_into(
+fn run_into<'a>(
     exp: &Experiment,
-    data: &Prepared,
+    data: &'a Prepared,
     c: Combination,
     out: &mut RunResult,
 ) -> Result<()> {
@@ -350,12 +351,24 @@ fn run_into(
     let own_columns = |s: &mut Labeled| {
         s.columns = map.iter().map(|&k| s.columns[k].clone()).collect();
     };
+    // The sentences as they are when they hold just this set's columns.
+    let width = data.train.first().map_or(0, |s| s.columns.len());
+    let same = map.iter().copied().eq(0..width);
+    let own = |sentences: &'a [Labeled]| -> Cow<'a, [Labeled]> {
+        if same {
+            Cow::Borrowed(sentences)
+        } else {
+            let mut mine = sentences.to_vec();
+            mine.iter_mut().for_each(own_columns);
+            Cow::Owned(mine)
+        }
+    };
     let mut train = subset(&data.train, c.size, c.seed);
-    train.iter_mut().for_each(own_columns);
-    let mut dev = data.dev.clone();
-    dev.iter_mut().for_each(own_columns);
-    let mut test = data.test.clone();
-    test.iter_mut().for_each(own_columns);
+    if !same {
+        train.iter_mut().for_each(own_columns);
+    }
+    let dev = own(&data.dev);
+    let test = own(&data.test);
     let config = data.configs[c.features].clone().check()?;
     let uses_clusters = config.clusters.enabled != Some(false);
     let paths =
@@ -394,7 +407,7 @@ fn run_into(
         evaluator = evaluator.clustered_words(&has_path);
     }
     let mut work = TagBuffers::default();
-    for s in &test {
+    for s in test.iter() {
         let columns = s.column_slices();
         let predicted = model.tag_with(&s.tokens, &columns, &mut work);
         evaluator.add(&s.tokens, &s.labels, &predicted)?;
