@@ -24,6 +24,17 @@
 //! | `clusters.whole_path` | `path[-1]=011010` |
 //! | `clusters`, no path | `path[0]:none` |
 //! | `clusters`, outside | `path[-1]:start`, `path[+1]:end` |
+//! | `cluster_sets` | `lc.p4[0]=0110`, `lc.path[0]=0110101`, `lc.path[+1]:none` |
+//! | `columns` window | `pos[-1]=DT`, `pos[-2]:start` |
+//! | `columns` n-grams | `pos[-1,0]=DT|NN`, `pos[0,+1]=NN|\end` |
+//! | `conjunctions` | `wp=the|DT`, `pp=\start|0110`, `wpath=zebra|\none` |
+//!
+//! In joined values (n-grams and conjunctions) a `|` or `\` inside a
+//! value is escaped by a `\`, a position beyond the sentence is `\start`
+//! or `\end` (with boundary markers off, the feature is not emitted),
+//! and a word without a path is `\none`; no escaped value can be any of
+//! these. The features of cluster sets, columns and conjunctions follow
+//! those of `[clusters]`, in the config's order.
 //!
 //! Features of one token come in the order of that table, each at most
 //! once. Character prefixes and suffixes count Unicode scalar values, up
@@ -133,14 +144,16 @@ impl Extractor {
             (_, paths) => paths,
         };
         if sets.len() != config.cluster_sets.len() {
-            return Err(Error::UnknownSet {
-                name: format!(
-                    "{} sets for {}",
+            return Err(Error::InvalidField {
+                field: "cluster_sets".into(),
+                reason: format!(
+                    "clusters for {} sets, but the config has {}",
                     sets.len(),
                     config.cluster_sets.len()
                 ),
             });
         }
+
         let mut on = Vec::new();
         for (set, p) in config.cluster_sets.iter().zip(sets) {
             on.push(match (set.enabled, p) {
@@ -719,16 +732,11 @@ impl Extractor {
                     Err(_) if !markers => continue,
                     Err(_) => None,
                 };
-                let head = |f: &mut String, what: &str| {
+                let Some(id) = id else {
                     f.clear();
                     f.push_str(&set.name);
-                    f.push('.');
-                    f.push_str(what);
-                    f.push('[');
+                    f.push_str(".path[");
                     push_offset(off, f);
-                };
-                let Some(id) = id else {
-                    head(f, "path");
                     f.push_str("]:");
                     f.push_str(at.err().unwrap_or("none"));
                     sink(i, f);
@@ -736,13 +744,18 @@ impl Extractor {
                 };
                 let path = paths.path_of_id(id);
                 for &len in &set.prefix_lengths {
-                    head(f, &format!("p{len}"));
+                    f.clear();
+                    let _ = write!(f, "{}.p{len}[", set.name);
+                    push_offset(off, f);
                     f.push_str("]=");
                     f.push_str(&path[..len.min(path.len())]);
                     sink(i, f);
                 }
                 if set.whole_path {
-                    head(f, "path");
+                    f.clear();
+                    f.push_str(&set.name);
+                    f.push_str(".path[");
+                    push_offset(off, f);
                     f.push_str("]=");
                     f.push_str(path);
                     sink(i, f);
