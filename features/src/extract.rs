@@ -26,8 +26,8 @@
 //! | `clusters`, outside | `path[-1]:start`, `path[+1]:end` |
 //! | `cluster_sets` | `lc.p4[0]=0110`, `lc.path[0]=0110101`, `lc.path[+1]:none` |
 //! | `columns` window | `pos[-1]=DT`, `pos[-2]:start` |
-//! | `columns` n-grams | `pos[-1,0]=DT|NN`, `pos[0,+1]=NN|\end` |
-//! | `conjunctions` | `wp=the|DT`, `pp=\start|0110`, `wpath=zebra|\none` |
+//! | `columns` n-grams | `pos[-1,0]=DT\|NN`, `pos[0,+1]=NN\|\end` |
+//! | `conjunctions` | `wp=the\|DT`, `pp=\start\|0110`, `wpath=zebra\|\none` |
 //!
 //! In joined values (n-grams and conjunctions) a `|` or `\` inside a
 //! value is escaped by a `\`, a position beyond the sentence is `\start`
