@@ -18,7 +18,7 @@ echo "| config | train tokens/s per epoch | tag tokens/s |"
 echo "|---|---:|---:|"
 for config in chunk-no-clusters chunk; do
     "$bin" train --train "$d/chunk-train.conll" --dev "$d/chunk-dev.conll" \
-        --model "$work/m.bin" --config "configs/$config.toml" \
+        --model "$work/m.bin" --force --config "configs/$config.toml" \
         --clusters "$d/clusters" --epochs "$epochs" 2> "$work/train.log"
     rate=$(grep -o '[0-9]* tokens/s' "$work/train.log" | awk '{print $1}' | sort -n |
         awk '{a[NR]=$1} END {print a[int((NR+1)/2)]}')

@@ -85,8 +85,9 @@ pub struct Extractor {
 /// What the extractor works out of its config once.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 struct Plan {
-    /// Each conjunction that emits: its name and parts.
-    conjunctions: Vec<(String, Vec<Atom>)>,
+    /// Each conjunction that emits: its name, its parts, and whether it
+    /// has few distinct values (no part reads the word itself).
+    conjunctions: Vec<(String, Vec<Atom>, bool)>,
 }
 
 impl Extractor {
@@ -181,7 +182,15 @@ impl Extractor {
                 _ => true,
             });
             if available {
-                plan.conjunctions.push((c.name.clone(), atoms));
+                let small = atoms.iter().all(|a| {
+                    matches!(
+                        a.kind,
+                        AtomKind::Column(_)
+                            | AtomKind::Path { .. }
+                            | AtomKind::Shape
+                    )
+                });
+                plan.conjunctions.push((c.name.clone(), atoms, small));
             }
         }
         Ok(Extractor { config, paths, sets: on, plan })
@@ -318,6 +327,9 @@ impl Extractor {
         if cache.words.len() > IdCache::LIMIT {
             cache.words.clear();
         }
+        if cache.extras.len() > IdCache::LIMIT {
+            cache.extras.clear();
+        }
         let config = self.config.get();
         let lex = &config.lexical;
         let neighbour_offsets: &[i32] =
@@ -384,7 +396,21 @@ impl Extractor {
                     (path_ids, set_ids),
                     feature,
                     key,
-                    &mut |_, f| ids.extend(index.get(f)),
+                    &mut |_, f, small| {
+                        if !small {
+                            ids.extend(index.get(f));
+                            return;
+                        }
+                        let id = match cache.extras.get(f) {
+                            Some(&id) => id,
+                            None => {
+                                let id = index.get(f);
+                                cache.extras.insert(f.into(), id);
+                                id
+                            }
+                        };
+                        ids.extend(id);
+                    },
                 );
             }
             starts.push(ids.len());
@@ -685,7 +711,13 @@ impl Extractor {
             if extra {
                 let ids = (&s.path_ids[..], &s.set_ids[..]);
                 self.extra_features(
-                    i, tokens, columns, ids, f, &mut s.key, sink,
+                    i,
+                    tokens,
+                    columns,
+                    ids,
+                    f,
+                    &mut s.key,
+                    &mut |i, f, _| sink(i, f),
                 );
             }
         }
@@ -704,7 +736,8 @@ impl Extractor {
 
     /// The features of token `i` from the cluster sets, the input
     /// columns and the conjunctions. `ids` are the path ids of
-    /// [`Extractor::lookup_paths`].
+    /// [`Extractor::lookup_paths`]. `sink` also hears whether the
+    /// feature has few distinct values (it reads no word).
     #[allow(clippy::too_many_arguments)]
     fn extra_features<S: AsRef<str>>(
         &self,
@@ -714,7 +747,7 @@ impl Extractor {
         ids: (&[Option<u32>], &[Option<u32>]),
         f: &mut String,
         key: &mut String,
-        sink: &mut dyn FnMut(usize, &str),
+        sink: &mut dyn FnMut(usize, &str, bool),
     ) {
         let config = self.config.get();
         let markers = config.boundary_markers;
@@ -739,7 +772,7 @@ impl Extractor {
                     push_offset(off, f);
                     f.push_str("]:");
                     f.push_str(at.err().unwrap_or("none"));
-                    sink(i, f);
+                    sink(i, f, true);
                     continue;
                 };
                 let path = paths.path_of_id(id);
@@ -749,7 +782,7 @@ impl Extractor {
                     push_offset(off, f);
                     f.push_str("]=");
                     f.push_str(&path[..len.min(path.len())]);
-                    sink(i, f);
+                    sink(i, f, true);
                 }
                 if set.whole_path {
                     f.clear();
@@ -758,7 +791,7 @@ impl Extractor {
                     push_offset(off, f);
                     f.push_str("]=");
                     f.push_str(path);
-                    sink(i, f);
+                    sink(i, f, true);
                 }
             }
         }
@@ -783,7 +816,7 @@ impl Extractor {
                         f.push_str(edge);
                     }
                 }
-                sink(i, f);
+                sink(i, f, true);
             }
             'grams: for gram in &c.ngrams {
                 f.clear();
@@ -806,10 +839,10 @@ impl Extractor {
                         Err(edge) => push_edge(edge, f),
                     }
                 }
-                sink(i, f);
+                sink(i, f, true);
             }
         }
-        'joins: for (name, atoms) in &self.plan.conjunctions {
+        'joins: for (name, atoms, small) in &self.plan.conjunctions {
             f.clear();
             f.push_str(name);
             f.push('=');
@@ -886,7 +919,7 @@ impl Extractor {
                     }
                 }
             }
-            sink(i, f);
+            sink(i, f, *small);
         }
     }
 }
@@ -920,6 +953,11 @@ fn push_edge(edge: &str, f: &mut String) {
 pub struct IdCache {
     words: rustc_hash::FxHashMap<Box<str>, WordIds>,
     markers: Vec<[Option<u32>; 2]>,
+    /// The ids of the features of cluster sets, columns and
+    /// conjunctions seen so far: a POS tag or tag pair recurs on every
+    /// few tokens, and this small table stays in the processor's caches
+    /// where the whole index does not.
+    extras: rustc_hash::FxHashMap<Box<str>, Option<u32>>,
 }
 
 impl IdCache {

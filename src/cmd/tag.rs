@@ -153,6 +153,11 @@ pub fn run(args: Args) -> Result<()> {
             file.commit()?;
         }
     }
+    // The model and its caches can be large (millions of feature
+    // strings); the process ends here, so leave them to the operating
+    // system instead of freeing them one by one.
+    std::mem::forget(work);
+    std::mem::forget(model);
     Ok(())
 }
 
