@@ -88,6 +88,30 @@ struct Plan {
     /// Each conjunction that emits: its name, its parts, and whether it
     /// has few distinct values (no part reads the word itself).
     conjunctions: Vec<(String, Vec<Atom>, bool)>,
+    /// The templates of the columns and conjunctions, in the order they
+    /// emit.
+    extras: Vec<Extra>,
+}
+
+/// One template of the input columns or the conjunctions.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Extra {
+    /// `columns[k]` at offset `off`.
+    Window { k: usize, off: i32 },
+    /// `columns[k]`'s n-gram `g`.
+    Gram { k: usize, g: usize },
+    /// The plan's conjunction `c`.
+    Conj { c: usize },
+}
+
+impl Extra {
+    /// Whether the template has few distinct values (reads no word).
+    fn small(self, plan: &Plan) -> bool {
+        match self {
+            Extra::Conj { c } => plan.conjunctions[c].2,
+            _ => true,
+        }
+    }
 }
 
 impl Extractor {
@@ -193,6 +217,14 @@ impl Extractor {
                 plan.conjunctions.push((c.name.clone(), atoms, small));
             }
         }
+        for (k, c) in config.columns.iter().enumerate() {
+            plan.extras
+                .extend(c.window.iter().map(|&off| Extra::Window { k, off }));
+            plan.extras
+                .extend((0..c.ngrams.len()).map(|g| Extra::Gram { k, g }));
+        }
+        plan.extras
+            .extend((0..plan.conjunctions.len()).map(|c| Extra::Conj { c }));
         Ok(Extractor { config, paths, sets: on, plan })
     }
 
@@ -356,6 +388,32 @@ impl Extractor {
         if extra {
             self.check_columns(tokens.len(), columns);
             self.lookup_paths(tokens, &mut out.scratch);
+            if cache.codes.len() > IdCache::LIMIT
+                || cache.templates.len() > 8 * IdCache::LIMIT
+            {
+                cache.codes.clear();
+                cache.templates.clear();
+            }
+            // A code for every token and every column value.
+            let IdCache { codes, sentence, .. } = &mut *cache;
+            sentence.clear();
+            let mut intern = |value: &str| match codes.get(value) {
+                Some(&c) => c,
+                None => {
+                    let c = codes.len() as u32;
+                    codes.insert(value.into(), c);
+                    c
+                }
+            };
+            for t in tokens {
+                sentence.push(intern(t.as_ref()));
+            }
+            let wanted = self.config.get().columns.len();
+            for values in &columns[..wanted] {
+                for v in values.iter() {
+                    sentence.push(intern(v.as_ref()));
+                }
+            }
         }
         let FeatureIds { ids, starts, scratch } = out;
         ids.clear();
@@ -389,29 +447,65 @@ impl Extractor {
             }
             if extra {
                 let Scratch { feature, key, path_ids, set_ids } = scratch;
-                self.extra_features(
-                    i,
-                    tokens,
-                    columns,
-                    (path_ids, set_ids),
-                    feature,
-                    key,
-                    &mut |_, f, small| {
-                        if !small {
-                            ids.extend(index.get(f));
-                            return;
+                let found = (&path_ids[..], &set_ids[..]);
+                // The cluster sets' features, through the string cache.
+                self.set_features(i, n, found, feature, &mut |_, f, _| {
+                    let id = match cache.extras.get(f) {
+                        Some(&id) => id,
+                        None => {
+                            let id = index.get(f);
+                            cache.extras.insert(f.into(), id);
+                            id
                         }
-                        let id = match cache.extras.get(f) {
-                            Some(&id) => id,
-                            None => {
-                                let id = index.get(f);
-                                cache.extras.insert(f.into(), id);
-                                id
+                    };
+                    ids.extend(id);
+                });
+                // The columns and conjunctions, by the codes of the values
+                // they join: the same codes give the same feature.
+                let code = &cache.sentence;
+                let at = |off: i32, column: Option<usize>| match position(
+                    i, off, n,
+                ) {
+                    Ok(j) => code[column.map_or(0, |k| k + 1) * n + j],
+                    Err("start") => START_CODE,
+                    Err(_) => END_CODE,
+                };
+                for (t, &e) in self.plan.extras.iter().enumerate() {
+                    let mut key3 = [UNUSED_CODE; 3];
+                    match e {
+                        Extra::Window { k, off } => key3[0] = at(off, Some(k)),
+                        Extra::Gram { k, g } => {
+                            let gram = &config.columns[k].ngrams[g];
+                            for (x, &off) in gram.iter().enumerate() {
+                                key3[x] = at(off, Some(k));
                             }
-                        };
-                        ids.extend(id);
-                    },
-                );
+                        }
+                        Extra::Conj { c } => {
+                            for (x, atom) in
+                                self.plan.conjunctions[c].1.iter().enumerate()
+                            {
+                                let column = match atom.kind {
+                                    AtomKind::Column(k) => Some(k),
+                                    _ => None,
+                                };
+                                key3[x] = at(atom.offset, column);
+                            }
+                        }
+                    }
+                    let id = match cache.templates.get(&(t as u32, key3)) {
+                        Some(&id) => id,
+                        None => {
+                            let emits = self.write_extra(
+                                e, i, tokens, columns, found, feature, key,
+                            );
+                            let id =
+                                if emits { index.get(feature) } else { None };
+                            cache.templates.insert((t as u32, key3), id);
+                            id
+                        }
+                    };
+                    ids.extend(id);
+                }
             }
             starts.push(ids.len());
         }
@@ -734,25 +828,19 @@ impl Extractor {
         );
     }
 
-    /// The features of token `i` from the cluster sets, the input
-    /// columns and the conjunctions. `ids` are the path ids of
-    /// [`Extractor::lookup_paths`]. `sink` also hears whether the
-    /// feature has few distinct values (it reads no word).
-    #[allow(clippy::too_many_arguments)]
-    fn extra_features<S: AsRef<str>>(
+    /// The features of token `i` of a sentence of `n` from the cluster
+    /// sets.
+    fn set_features(
         &self,
         i: usize,
-        tokens: &[S],
-        columns: &[&[S]],
+        n: usize,
         ids: (&[Option<u32>], &[Option<u32>]),
         f: &mut String,
-        key: &mut String,
         sink: &mut dyn FnMut(usize, &str, bool),
     ) {
         let config = self.config.get();
         let markers = config.boundary_markers;
-        let n = tokens.len();
-        let (path_ids, set_ids) = ids;
+        let set_ids = ids.1;
         let mut on = 0;
         for (set, paths) in config.cluster_sets.iter().zip(&self.sets) {
             let Some(paths) = paths else { continue };
@@ -795,12 +883,55 @@ impl Extractor {
                 }
             }
         }
-        for (k, c) in config.columns.iter().enumerate() {
-            let values = columns[k];
-            for &off in &c.window {
+    }
+
+    /// The features of token `i` from the cluster sets, the input
+    /// columns and the conjunctions. `ids` are the path ids of
+    /// [`Extractor::lookup_paths`]. `sink` also hears whether the
+    /// feature has few distinct values (it reads no word).
+    #[allow(clippy::too_many_arguments)]
+    fn extra_features<S: AsRef<str>>(
+        &self,
+        i: usize,
+        tokens: &[S],
+        columns: &[&[S]],
+        ids: (&[Option<u32>], &[Option<u32>]),
+        f: &mut String,
+        key: &mut String,
+        sink: &mut dyn FnMut(usize, &str, bool),
+    ) {
+        self.set_features(i, tokens.len(), ids, f, sink);
+        for &e in &self.plan.extras {
+            if self.write_extra(e, i, tokens, columns, ids, f, key) {
+                sink(i, f, e.small(&self.plan));
+            }
+        }
+    }
+
+    /// Writes the feature of template `e` for token `i` into `f`; false
+    /// when it emits nothing there.
+    #[allow(clippy::too_many_arguments)]
+    fn write_extra<S: AsRef<str>>(
+        &self,
+        e: Extra,
+        i: usize,
+        tokens: &[S],
+        columns: &[&[S]],
+        ids: (&[Option<u32>], &[Option<u32>]),
+        f: &mut String,
+        key: &mut String,
+    ) -> bool {
+        let config = self.config.get();
+        let markers = config.boundary_markers;
+        let n = tokens.len();
+        let (path_ids, set_ids) = ids;
+        match e {
+            Extra::Window { k, off } => {
+                let c = &config.columns[k];
+                let values = columns[k];
                 let at = position(i, off, n);
                 if at.is_err() && !markers {
-                    continue;
+                    return false;
                 }
                 f.clear();
                 f.push_str(&c.name);
@@ -816,9 +947,11 @@ impl Extractor {
                         f.push_str(edge);
                     }
                 }
-                sink(i, f, true);
             }
-            'grams: for gram in &c.ngrams {
+            Extra::Gram { k, g } => {
+                let c = &config.columns[k];
+                let gram = &c.ngrams[g];
+                let values = columns[k];
                 f.clear();
                 f.push_str(&c.name);
                 f.push('[');
@@ -835,92 +968,92 @@ impl Extractor {
                     }
                     match position(i, off, n) {
                         Ok(j) => push_escaped(values[j].as_ref(), f),
-                        Err(_) if !markers => continue 'grams,
+                        Err(_) if !markers => return false,
                         Err(edge) => push_edge(edge, f),
                     }
                 }
-                sink(i, f, true);
             }
-        }
-        'joins: for (name, atoms, small) in &self.plan.conjunctions {
-            f.clear();
-            f.push_str(name);
-            f.push('=');
-            for (g, atom) in atoms.iter().enumerate() {
-                if g > 0 {
-                    f.push('|');
-                }
-                let j = match position(i, atom.offset, n) {
-                    Ok(j) => j,
-                    Err(_) if !markers => continue 'joins,
-                    Err(edge) => {
-                        push_edge(edge, f);
-                        continue;
+            Extra::Conj { c } => {
+                let (name, atoms, _) = &self.plan.conjunctions[c];
+                f.clear();
+                f.push_str(name);
+                f.push('=');
+                for (g, atom) in atoms.iter().enumerate() {
+                    if g > 0 {
+                        f.push('|');
                     }
-                };
-                let word = tokens[j].as_ref();
-                match atom.kind {
-                    AtomKind::Word => push_escaped(word, f),
-                    AtomKind::Lower => {
-                        if needs_lowercasing(word) {
-                            lowercase_into(word, key);
-                            push_escaped(key, f);
-                        } else {
-                            push_escaped(word, f);
+                    let j = match position(i, atom.offset, n) {
+                        Ok(j) => j,
+                        Err(_) if !markers => return false,
+                        Err(edge) => {
+                            push_edge(edge, f);
+                            continue;
                         }
-                    }
-                    AtomKind::Shape => {
-                        key.clear();
-                        push_shape(word, key);
-                        push_escaped(key, f);
-                    }
-                    AtomKind::Prefix(len) => {
-                        let end = word
-                            .char_indices()
-                            .nth(len)
-                            .map_or(word.len(), |(b, _)| b);
-                        push_escaped(&word[..end], f);
-                    }
-                    AtomKind::Suffix(len) => {
-                        let start = word
-                            .char_indices()
-                            .rev()
-                            .nth(len - 1)
-                            .map_or(0, |(b, _)| b);
-                        push_escaped(&word[start..], f);
-                    }
-                    AtomKind::Column(k) => {
-                        push_escaped(columns[k][j].as_ref(), f)
-                    }
-                    AtomKind::Path { set, bits } => {
-                        let (paths, id) = if set == 0 {
-                            (self.paths.as_ref(), path_ids.get(j).copied())
-                        } else {
-                            let on = self.sets[..set - 1]
-                                .iter()
-                                .filter(|p| p.is_some())
-                                .count();
-                            let id = set_ids.get(on * n + j).copied();
-                            (self.sets[set - 1].as_ref(), id)
-                        };
-                        // The plan keeps only conjunctions whose sets
-                        // are on.
-                        let (Some(paths), Some(id)) = (paths, id) else {
-                            continue 'joins;
-                        };
-                        match id {
-                            None => f.push_str("\\none"),
-                            Some(id) => {
-                                let path = paths.path_of_id(id);
-                                let len = bits.unwrap_or(path.len());
-                                f.push_str(&path[..len.min(path.len())]);
+                    };
+                    let word = tokens[j].as_ref();
+                    match atom.kind {
+                        AtomKind::Word => push_escaped(word, f),
+                        AtomKind::Lower => {
+                            if needs_lowercasing(word) {
+                                lowercase_into(word, key);
+                                push_escaped(key, f);
+                            } else {
+                                push_escaped(word, f);
+                            }
+                        }
+                        AtomKind::Shape => {
+                            key.clear();
+                            push_shape(word, key);
+                            push_escaped(key, f);
+                        }
+                        AtomKind::Prefix(len) => {
+                            let end = word
+                                .char_indices()
+                                .nth(len)
+                                .map_or(word.len(), |(b, _)| b);
+                            push_escaped(&word[..end], f);
+                        }
+                        AtomKind::Suffix(len) => {
+                            let start = word
+                                .char_indices()
+                                .rev()
+                                .nth(len - 1)
+                                .map_or(0, |(b, _)| b);
+                            push_escaped(&word[start..], f);
+                        }
+                        AtomKind::Column(k) => {
+                            push_escaped(columns[k][j].as_ref(), f)
+                        }
+                        AtomKind::Path { set, bits } => {
+                            let (paths, id) = if set == 0 {
+                                (self.paths.as_ref(), path_ids.get(j).copied())
+                            } else {
+                                let on = self.sets[..set - 1]
+                                    .iter()
+                                    .filter(|p| p.is_some())
+                                    .count();
+                                let id = set_ids.get(on * n + j).copied();
+                                (self.sets[set - 1].as_ref(), id)
+                            };
+                            // The plan keeps only conjunctions whose sets
+                            // are on.
+                            let (Some(paths), Some(id)) = (paths, id) else {
+                                return false;
+                            };
+                            match id {
+                                None => f.push_str("\\none"),
+                                Some(id) => {
+                                    let path = paths.path_of_id(id);
+                                    let len = bits.unwrap_or(path.len());
+                                    f.push_str(&path[..len.min(path.len())]);
+                                }
                             }
                         }
                     }
                 }
             }
-            sink(i, f, *small);
         }
+        true
     }
 }
 
@@ -958,7 +1091,21 @@ pub struct IdCache {
     /// few tokens, and this small table stays in the processor's caches
     /// where the whole index does not.
     extras: rustc_hash::FxHashMap<Box<str>, Option<u32>>,
+    /// A code for each token and column value seen.
+    codes: rustc_hash::FxHashMap<Box<str>, u32>,
+    /// The id of each column or conjunction template (its number in the
+    /// plan) for the codes of the values it joins.
+    templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
+    /// The codes of the current sentence: its tokens, then each column's
+    /// values.
+    sentence: Vec<u32>,
 }
+
+/// The codes of a position before the sentence, after it, and of a part
+/// a template does not have.
+const START_CODE: u32 = u32::MAX;
+const END_CODE: u32 = u32::MAX - 1;
+const UNUSED_CODE: u32 = u32::MAX - 2;
 
 impl IdCache {
     /// Words kept before the cache starts afresh (bounds its memory).
@@ -1923,43 +2070,51 @@ mod tests {
                     ngrams = [[-1, 0]]\n\
                     [[conjunctions]]\nname = \"wp\"\nparts = [\"word\", \"pos[1]\"]\n\
                     [[conjunctions]]\nname = \"pl\"\nparts = [\"lc.p1[-1]\", \"p2\"]\n";
-        let mut c = FeatureConfig::from_toml(toml).unwrap();
-        c.clusters.whole_path = true;
-        let e = Extractor::with_sets(
-            c.check().unwrap(),
-            Some(paths(false)),
-            vec![("lc".into(), paths(true))],
-        )
-        .unwrap();
-        let sentences: [(&[&str], &[&str]); 3] = [
-            (&["The", "cat", "sat"], &["D", "N", "V"]),
-            (&["é", "cat"], &["X", "N"]),
-            (&["the", "zebra", "sat", "cat"], &["D", "N", "V", "Y"]),
-        ];
-        let mut builder = crate::FeatureIndexBuilder::new();
-        let mut buf = Features::new();
-        for (tokens, tags) in &sentences[..2] {
-            e.extract_with(tokens, &[*tags], &mut buf);
-            builder.add(&buf);
-        }
-        let index = builder.build(1);
-        let mut cache = IdCache::new();
-        let (mut plain, mut cached) = (FeatureIds::new(), FeatureIds::new());
-        for (tokens, tags) in sentences {
-            e.extract_ids(&index, tokens, &[tags], &mut plain);
-            e.extract_ids_cached(
-                &index,
-                tokens,
-                &[tags],
-                &mut cached,
-                &mut cache,
-            );
-            for i in 0..tokens.len() {
-                let mut a = plain.token(i).to_vec();
-                let mut b = cached.token(i).to_vec();
-                a.sort_unstable();
-                b.sort_unstable();
-                assert_eq!(a, b, "{tokens:?} token {i}");
+        for markers in [true, false] {
+            let mut c = FeatureConfig::from_toml(toml).unwrap();
+            c.clusters.whole_path = true;
+            c.boundary_markers = markers;
+            let e = Extractor::with_sets(
+                c.check().unwrap(),
+                Some(paths(false)),
+                vec![("lc".into(), paths(true))],
+            )
+            .unwrap();
+            let sentences: [(&[&str], &[&str]); 3] = [
+                (&["The", "cat", "sat"], &["D", "N", "V"]),
+                (&["é", "cat"], &["X", "N"]),
+                (&["the", "zebra", "sat", "cat"], &["D", "N", "V", "Y"]),
+            ];
+            let mut builder = crate::FeatureIndexBuilder::new();
+            let mut buf = Features::new();
+            for (tokens, tags) in &sentences[..2] {
+                e.extract_with(tokens, &[*tags], &mut buf);
+                builder.add(&buf);
+            }
+            let index = builder.build(1);
+            let mut cache = IdCache::new();
+            let (mut plain, mut cached) =
+                (FeatureIds::new(), FeatureIds::new());
+            for (tokens, tags) in sentences.iter().chain(&sentences) {
+                let (tokens, tags) = (*tokens, *tags);
+                e.extract_ids(&index, tokens, &[tags], &mut plain);
+                e.extract_ids_cached(
+                    &index,
+                    tokens,
+                    &[tags],
+                    &mut cached,
+                    &mut cache,
+                );
+                for i in 0..tokens.len() {
+                    let mut a = plain.token(i).to_vec();
+                    let mut b = cached.token(i).to_vec();
+                    a.sort_unstable();
+                    b.sort_unstable();
+                    assert_eq!(
+                        a, b,
+                        "{tokens:?} token {i}, markers {markers}"
+                    );
+                }
             }
         }
     }
