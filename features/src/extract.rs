@@ -357,7 +357,10 @@ impl Extractor {
         cache: &mut IdCache,
     ) {
         if cache.words.len() > IdCache::LIMIT {
+            // The template cache keys on word numbers: it goes too.
             cache.words.clear();
+            cache.entries.clear();
+            cache.templates.clear();
         }
         if cache.extras.len() > IdCache::LIMIT {
             cache.extras.clear();
@@ -371,18 +374,27 @@ impl Extractor {
         if cache.markers.is_empty() {
             cache.markers = self.marker_ids(index, neighbour_offsets, window);
         }
+        // Each token's number in the cache, looked up once.
+        cache.sentence.clear();
         for t in tokens {
             let word = t.as_ref();
-            if !cache.words.contains_key(word) {
-                let entry = self.word_entry(
-                    index,
-                    word,
-                    neighbour_offsets,
-                    window,
-                    &mut out.scratch,
-                );
-                cache.words.insert(word.into(), entry);
-            }
+            let k = match cache.words.get(word) {
+                Some(&k) => k,
+                None => {
+                    let entry = self.word_entry(
+                        index,
+                        word,
+                        neighbour_offsets,
+                        window,
+                        &mut out.scratch,
+                    );
+                    cache.entries.push(entry);
+                    let k = (cache.entries.len() - 1) as u32;
+                    cache.words.insert(word.into(), k);
+                    k
+                }
+            };
+            cache.sentence.push(k);
         }
         let extra = self.has_extras();
         if extra {
@@ -394,9 +406,8 @@ impl Extractor {
                 cache.codes.clear();
                 cache.templates.clear();
             }
-            // A code for every token and every column value.
+            // A code for every column value (after the tokens' numbers).
             let IdCache { codes, sentence, .. } = &mut *cache;
-            sentence.clear();
             let mut intern = |value: &str| match codes.get(value) {
                 Some(&c) => c,
                 None => {
@@ -405,9 +416,6 @@ impl Extractor {
                     c
                 }
             };
-            for t in tokens {
-                sentence.push(intern(t.as_ref()));
-            }
             let wanted = self.config.get().columns.len();
             for values in &columns[..wanted] {
                 for v in values.iter() {
@@ -421,13 +429,12 @@ impl Extractor {
         starts.push(0);
         let n = tokens.len();
         let markers = config.boundary_markers;
+        let word = |j: usize| &cache.entries[cache.sentence[j] as usize];
         for i in 0..n {
-            let entry = &cache.words[tokens[i].as_ref()];
-            ids.extend_from_slice(&entry.local);
+            ids.extend_from_slice(&word(i).local);
             for (k, &off) in neighbour_offsets.iter().enumerate() {
                 match position(i, off, n) {
-                    Ok(j) => ids
-                        .extend(cache.words[tokens[j].as_ref()].neighbour[k]),
+                    Ok(j) => ids.extend(word(j).neighbour[k]),
                     Err(edge) if markers => ids
                         .extend(cache.markers[k][usize::from(edge == "end")]),
                     Err(_) => {}
@@ -435,9 +442,7 @@ impl Extractor {
             }
             for (k, &off) in window.iter().enumerate() {
                 match position(i, off, n) {
-                    Ok(j) => ids.extend_from_slice(
-                        &cache.words[tokens[j].as_ref()].path[k],
-                    ),
+                    Ok(j) => ids.extend_from_slice(&word(j).path[k]),
                     Err(edge) if markers => ids.extend(
                         cache.markers[neighbour_offsets.len() + k]
                             [usize::from(edge == "end")],
@@ -1084,20 +1089,22 @@ fn push_edge(edge: &str, f: &mut String) {
 /// index: use a new cache for another model.
 #[derive(Clone, Debug, Default)]
 pub struct IdCache {
-    words: rustc_hash::FxHashMap<Box<str>, WordIds>,
+    /// Each word's number in `entries`.
+    words: rustc_hash::FxHashMap<Box<str>, u32>,
+    entries: Vec<WordIds>,
     markers: Vec<[Option<u32>; 2]>,
     /// The ids of the features of cluster sets, columns and
     /// conjunctions seen so far: a POS tag or tag pair recurs on every
     /// few tokens, and this small table stays in the processor's caches
     /// where the whole index does not.
     extras: rustc_hash::FxHashMap<Box<str>, Option<u32>>,
-    /// A code for each token and column value seen.
+    /// A code for each column value seen.
     codes: rustc_hash::FxHashMap<Box<str>, u32>,
     /// The id of each column or conjunction template (its number in the
     /// plan) for the codes of the values it joins.
     templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
-    /// The codes of the current sentence: its tokens, then each column's
-    /// values.
+    /// The codes of the current sentence: its tokens' numbers in
+    /// `entries`, then the codes of each column's values.
     sentence: Vec<u32>,
 }
 
