@@ -328,10 +328,18 @@ fn columns_conjunctions_and_cluster_sets_show() {
         ],
     )
     .user_error("--clusters lc=DIR is given twice");
-    dir.write("one.conll", "the\ncat\n");
+    dir.write("one.conll", "the\tDT\ncat\tNN\n\nsat\n");
     lexiclade(dir.path(), &["featurize", "one.conll", "--config", "x.toml", "--out", "o.txt"])
-        .user_error("one.conll:1: the features read column 2 (pos), but the row has 1 column");
+        .user_error("one.conll:4: the features read column 2 (pos), but the row has 1 column");
     assert!(!dir.join("o.txt").exists());
+    // Nothing on standard output either, though the first sentence is
+    // fine.
+    let run = lexiclade(
+        dir.path(),
+        &["featurize", "one.conll", "--config", "x.toml"],
+    )
+    .user_error("one.conll:4:");
+    assert_eq!(run.stdout, "");
     let run = lexiclade(
         dir.path(),
         &[

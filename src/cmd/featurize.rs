@@ -8,7 +8,7 @@ use lexiclade::atomic::AtomicFile;
 use lexiclade_features::{Extractor, FeatureConfig, Features};
 use lexiclade_tagger::{
     columns::{read_columns, Column},
-    pipeline::{column_names, feature_columns},
+    pipeline::{column_names, feature_column_indexes},
 };
 
 /// Write the features a config gives each token of column files.
@@ -123,14 +123,28 @@ fn featurize(
     let mut features = Features::new();
     let (mut sentences, mut tokens_seen) = (0, 0);
     let wanted = column_names(extractor);
+    // Every file is read and its columns checked before anything is
+    // written, so that a row without a column leaves no partial output.
+    let mut files = Vec::new();
     for input in inputs {
         let file = read_columns(input)?;
+        let mut found = Vec::with_capacity(file.sentences.len());
         for sentence in &file.sentences {
+            sentence.column(token_column)?;
+            found.push(feature_column_indexes(sentence, &wanted, None)?);
+        }
+        files.push((file, found));
+    }
+    for (file, found) in &files {
+        for (sentence, found) in file.sentences.iter().zip(found) {
             let tokens = sentence.column(token_column)?;
-            let columns = feature_columns(sentence, &wanted, None)?;
-            let columns: Vec<Vec<&str>> = columns
+            let columns: Vec<Vec<&str>> = found
                 .iter()
-                .map(|c| c.iter().map(String::as_str).collect())
+                .map(|&col| {
+                    (0..sentence.len())
+                        .map(|row| sentence.cell(row, col))
+                        .collect()
+                })
                 .collect();
             let columns: Vec<&[&str]> =
                 columns.iter().map(Vec::as_slice).collect();
