@@ -342,8 +342,11 @@ impl Extractor {
     /// once. The ids are the same as `extract_ids` gives, per token, but
     /// not in the same order.
     ///
-    /// The features of cluster sets, input columns and conjunctions are
-    /// built and looked up for every token.
+    /// The features of input columns and conjunctions depend on several
+    /// positions; their ids are cached by the template and the values it
+    /// joins (each token's word and each column value get a number), so
+    /// each distinct combination is built and looked up once. Those of
+    /// further cluster sets are cached by their strings.
     ///
     /// # Panics
     ///
