@@ -226,6 +226,7 @@ pub fn run(
             lowercase: false,
             exchange_passes: 0,
         }),
+        cluster_sets: Default::default(),
         features: vec![
             FeatureSet {
                 name: "no clusters".into(),
@@ -233,6 +234,7 @@ pub fn run(
                 prefixes: None,
                 whole_path: None,
                 clusters: None,
+                cluster_sets: Default::default(),
             },
             FeatureSet {
                 name: "clusters".into(),
@@ -240,6 +242,7 @@ pub fn run(
                 prefixes: None,
                 whole_path: None,
                 clusters: None,
+                cluster_sets: Default::default(),
             },
         ],
         training: Training {

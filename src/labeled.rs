@@ -28,18 +28,22 @@ pub struct LabeledFile {
 }
 
 impl LabeledFile {
-    /// Reads `path` with the token and label columns of `spec`; refused
-    /// when they are the same column of a row (one-column files too).
-    pub fn read(path: &Path, spec: &ColumnSpec) -> Result<LabeledFile> {
+    /// Reads `path` with the token and label columns of `spec` and the
+    /// values of the feature columns `features` (column and entry name, as
+    /// [`column_names`](lexiclade_tagger::pipeline::column_names) gives
+    /// them); refused when token and label are the same column of a row
+    /// (one-column files too), or when a feature column is missing or is
+    /// the label column.
+    pub fn read(
+        path: &Path,
+        spec: &ColumnSpec,
+        features: &[(i64, &str)],
+    ) -> Result<LabeledFile> {
         let file = read_columns(path)?;
         let mut sentences = Vec::with_capacity(file.sentences.len());
         let mut lines = Vec::with_capacity(file.sentences.len());
         for s in &file.sentences {
-            let (tokens, labels) = s.labeled(spec)?;
-            sentences.push(Labeled {
-                tokens: tokens.into_iter().map(String::from).collect(),
-                labels: labels.into_iter().map(String::from).collect(),
-            });
+            sentences.push(Labeled::read(s, spec, features)?);
             lines.push(s.lines().to_vec());
         }
         let mixed = file

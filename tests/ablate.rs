@@ -298,3 +298,81 @@ fn refit_runs_match_train_refit() {
     let score: f64 = run[5].parse().unwrap();
     assert!((f1 - score).abs() < 1e-6, "ablate {score} vs train --refit {f1}");
 }
+
+/// Feature sets that read an input column and a named cluster set: each
+/// reads its own columns, and the experiment's `[cluster_sets]` reach
+/// the set that requires them.
+#[test]
+fn feature_sets_with_columns_and_cluster_sets() {
+    use crate::tagger::{tag_fixture, TAG_CONFIG};
+    let dir = Dir::new();
+    dir.write("train.tsv", tag_fixture(120, 7));
+    dir.write("dev.tsv", tag_fixture(30, 8));
+    dir.write("test.tsv", tag_fixture(30, 9));
+    let words: String = tag_fixture(120, 7)
+        .lines()
+        .map(|l| l.split('\t').next().unwrap_or(""))
+        .collect::<Vec<_>>()
+        .join(" ");
+    dir.write("raw.txt", words);
+    lexiclade(
+        dir.path(),
+        &["cluster", "raw.txt", "--out", "clusters", "--classes", "4", "-q"],
+    )
+    .ok();
+    dir.write("words.toml", "iobes = false\n");
+    dir.write("tag.toml", TAG_CONFIG);
+    dir.write(
+        "set.toml",
+        "iobes = false\n[[cluster_sets]]\nname = \"lc\"\nenabled = true\n",
+    );
+    let experiment = r#"
+        [data]
+        train = "train.tsv"
+        dev = "dev.tsv"
+        test = "test.tsv"
+        scheme = "none"
+        [cluster_sets]
+        lc = "clusters"
+        [[features]]
+        name = "words"
+        config = "words.toml"
+        [[features]]
+        name = "tag column"
+        config = "tag.toml"
+        [[features]]
+        name = "cluster set"
+        config = "set.toml"
+        [training]
+        seeds = [1]
+        epochs = 4
+        rounds = 200
+    "#;
+    dir.write("exp.toml", experiment);
+    lexiclade(
+        dir.path(),
+        &["ablate", "--config", "exp.toml", "--out", "out", "-q"],
+    )
+    .ok();
+    let runs = rows(&dir, "out");
+    let score = |name: &str| -> f64 {
+        let row = runs.iter().find(|r| r[0] == name).unwrap();
+        assert_eq!(row[3], "ok", "{row:?}");
+        row[5].parse().unwrap()
+    };
+    assert_eq!(score("tag column"), 1.0);
+    assert!(score("words") < 0.8, "{}", score("words"));
+    score("cluster set");
+    // Without the experiment's directory the set that requires it fails.
+    dir.write("exp2.toml", experiment.replace("lc = \"clusters\"", ""));
+    let run = lexiclade(
+        dir.path(),
+        &["ablate", "--config", "exp2.toml", "--out", "out2", "-q"],
+    );
+    assert_ne!(run.status, 0);
+    assert!(
+        run.stderr.contains("cluster set \"lc\" sets enabled = true"),
+        "{}",
+        run.stderr
+    );
+}

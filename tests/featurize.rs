@@ -262,3 +262,100 @@ fn input_errors_are_one_line_with_exit_code_2() {
     dir.write("crlf.conll", crlf);
     assert_eq!(run("crlf.conll").ok().stdout, run("t.conll").ok().stdout);
 }
+
+#[test]
+fn columns_conjunctions_and_cluster_sets_show() {
+    let dir = setup();
+    dir.write(
+        "x.toml",
+        "[clusters]\nenabled = false\n\
+         [lexical]\nword = false\nlowercase = false\nchar_prefixes = false\n\
+         char_suffixes = false\nshape = false\ncase_flags = false\n\
+         char_flags = false\nneighbours = false\n\
+         [[cluster_sets]]\nname = \"lc\"\nprefix_lengths = [1]\nwindow = [0]\n\
+         [[columns]]\nname = \"pos\"\ncolumn = 2\nwindow = [-1]\nngrams = [[0, 1]]\n\
+         [[conjunctions]]\nname = \"wp\"\nparts = [\"word\", \"pos[+1]\"]\n",
+    );
+    let run = lexiclade(
+        dir.path(),
+        &[
+            "featurize",
+            "t.conll",
+            "--config",
+            "x.toml",
+            "--clusters",
+            "lc=clusters",
+        ],
+    )
+    .ok();
+    let the = prefix(&path_of(&dir, "the"), 1).to_string();
+    let cat = prefix(&path_of(&dir, "cat"), 1).to_string();
+    let sat = prefix(&path_of(&dir, "sat"), 1).to_string();
+    let a = prefix(&path_of(&dir, "a"), 1).to_string();
+    let want = format!(
+        "the\tbias\tlc.p1[0]={the}\tpos[-1]:start\tpos[0,+1]=DT|NN\twp=the|NN\n\
+         cat\tbias\tlc.p1[0]={cat}\tpos[-1]=DT\tpos[0,+1]=NN|VBD\twp=cat|VBD\n\
+         sat\tbias\tlc.p1[0]={sat}\tpos[-1]=NN\tpos[0,+1]=VBD|\\end\twp=sat|\\end\n\n\
+         a\tbias\tlc.p1[0]={a}\tpos[-1]:start\tpos[0,+1]=DT|NN\twp=a|NN\n\
+         zebra\tbias\tlc.path[0]:none\tpos[-1]=DT\tpos[0,+1]=NN|\\end\twp=zebra|\\end\n\n"
+    );
+    assert_eq!(run.stdout, want);
+    // A set the config does not have, a set given twice, a missing
+    // column, the token column from the end.
+    lexiclade(
+        dir.path(),
+        &[
+            "featurize",
+            "t.conll",
+            "--config",
+            "x.toml",
+            "--clusters",
+            "uc=clusters",
+        ],
+    )
+    .user_error("--clusters uc=clusters: x.toml has no cluster set \"uc\"");
+    lexiclade(
+        dir.path(),
+        &[
+            "featurize",
+            "t.conll",
+            "--config",
+            "x.toml",
+            "--clusters",
+            "lc=clusters",
+            "--clusters",
+            "lc=clusters",
+        ],
+    )
+    .user_error("--clusters lc=DIR is given twice");
+    dir.write("one.conll", "the\tDT\ncat\tNN\n\nsat\n");
+    lexiclade(dir.path(), &["featurize", "one.conll", "--config", "x.toml", "--out", "o.txt"])
+        .user_error("one.conll:4: the features read column 2 (pos), but the row has 1 column");
+    assert!(!dir.join("o.txt").exists());
+    // Nothing on standard output either, though the first sentence is
+    // fine.
+    let run = lexiclade(
+        dir.path(),
+        &["featurize", "one.conll", "--config", "x.toml"],
+    )
+    .user_error("one.conll:4:");
+    assert_eq!(run.stdout, "");
+    let run = lexiclade(
+        dir.path(),
+        &[
+            "featurize",
+            "t.conll",
+            "--config",
+            "x.toml",
+            "--token-column",
+            "-1",
+        ],
+    )
+    .ok();
+    assert!(
+        run.stdout
+            .starts_with("O\tbias\tpos[-1]:start\tpos[0,+1]=DT|NN\twp=O|NN\n"),
+        "{}",
+        run.stdout
+    );
+}

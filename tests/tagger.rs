@@ -131,15 +131,18 @@ fn bad_models_and_inputs_are_one_line_errors() {
     flipped[last] ^= 0x40;
     dir.write("flipped.bin", &flipped);
     let mut other = bytes.clone();
-    other[8] = 99;
-    dir.write("v2.bin", &other);
+    // A file of an older format (version 1, before input columns).
+    other[8] = 1;
+    dir.write("v1.bin", &other);
     dir.write("text.bin", "not a model\n");
     let tag = |model: &str| {
         lexiclade(dir.path(), &["tag", "--model", model, "test.conll"])
     };
     tag("cut.bin").user_error("cut.bin: truncated model file");
     tag("flipped.bin").user_error("checksum mismatch");
-    tag("v2.bin").user_error("model format version 99 is not supported");
+    tag("v1.bin").user_error(
+        "model format version 1 is not supported (this build reads version 3)",
+    );
     tag("text.bin").user_error("not a lexiclade model file");
     tag("missing.bin").user_error("missing.bin");
 
@@ -372,4 +375,312 @@ fn shipped_wnut17_files_read_as_tab_separated() {
         assert_eq!(file.tokens(), tokens, "{part}");
         assert!(file.sentences.iter().all(|s| s.width() == 2), "{part}");
     }
+}
+
+/// Sentences of `token TAB tag TAB label` whose label depends on the
+/// tags alone: `Y` where a token's tag equals the previous token's, `N`
+/// elsewhere. The words are drawn independently of the tags, so a model
+/// of the words cannot do better than chance, and the label is an XOR
+/// of two tags, which the single tags cannot express either: only the
+/// tag bigram can.
+pub(crate) fn tag_fixture(sentences: usize, seed: u64) -> String {
+    let mut state = seed.wrapping_mul(6364136223846793005).wrapping_add(1);
+    let mut next = |n: u64| {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (state >> 33) % n
+    };
+    let mut out = String::new();
+    for _ in 0..sentences {
+        let mut last = None;
+        for _ in 0..8 {
+            let word = format!("w{}", next(40));
+            let tag = if next(2) == 0 { "a" } else { "b" };
+            let label = if last == Some(tag) { "Y" } else { "N" };
+            out.push_str(&format!("{word}\t{tag}\t{label}\n"));
+            last = Some(tag);
+        }
+        out.push('\n');
+    }
+    out
+}
+
+pub(crate) const TAG_CONFIG: &str = "iobes = false\n\
+    [[columns]]\nname = \"tag\"\ncolumn = 2\nwindow = [0]\nngrams = [[-1, 0]]\n";
+
+fn token_accuracy(dir: &Dir, pred: &str) -> f64 {
+    let run = lexiclade(dir.path(), &["eval", pred, "--json"]).ok();
+    let report: serde_json::Value = serde_json::from_str(&run.stdout).unwrap();
+    report["token_accuracy"].as_f64().unwrap()
+}
+
+#[test]
+fn a_column_feature_learns_what_the_words_cannot() {
+    let dir = Dir::new();
+    dir.write("train.tsv", tag_fixture(300, 1));
+    dir.write("test.tsv", tag_fixture(60, 2));
+    dir.write("tag.toml", TAG_CONFIG);
+    dir.write("words.toml", "iobes = false\n");
+    dir.write(
+        "unigrams.toml",
+        TAG_CONFIG
+            .replace("ngrams = [[-1, 0]]", "window = [-1]")
+            .replace("window = [0]\n", ""),
+    );
+    let mut accuracy = Vec::new();
+    for config in ["tag", "words", "unigrams"] {
+        let model = format!("{config}.bin");
+        lexiclade(
+            dir.path(),
+            &[
+                "train",
+                "--train",
+                "train.tsv",
+                "--model",
+                &model,
+                "--config",
+                &format!("{config}.toml"),
+                "--epochs",
+                "5",
+                "-q",
+            ],
+        )
+        .ok();
+        let pred = format!("{config}.pred");
+        lexiclade(
+            dir.path(),
+            &["tag", "--model", &model, "test.tsv", "--out", &pred],
+        )
+        .ok();
+        accuracy.push(token_accuracy(&dir, &pred));
+    }
+    assert_eq!(accuracy[0], 1.0, "the tag bigram decides every label");
+    assert!(accuracy[1] < 0.8, "words alone are near chance: {}", accuracy[1]);
+    assert!(
+        accuracy[2] < 0.8,
+        "the single tags cannot express an XOR: {}",
+        accuracy[2]
+    );
+}
+
+#[test]
+fn the_model_keeps_its_columns_and_refuses_input_without_them() {
+    let dir = Dir::new();
+    dir.write("train.tsv", tag_fixture(100, 3));
+    dir.write("tag.toml", TAG_CONFIG);
+    let train = |extra: &[&str]| {
+        let mut args = vec![
+            "train",
+            "--train",
+            "train.tsv",
+            "--model",
+            "m.bin",
+            "--config",
+            "tag.toml",
+            "--epochs",
+            "2",
+            "-q",
+        ];
+        args.extend(extra);
+        lexiclade(dir.path(), &args)
+    };
+    train(&[]).ok();
+    // Tagging after the round trip through the file reads column 2.
+    lexiclade(
+        dir.path(),
+        &["tag", "--model", "m.bin", "train.tsv", "--out", "a.pred"],
+    )
+    .ok();
+    assert!(token_accuracy(&dir, "a.pred") > 0.99);
+    // The same rows with the tags swapped give other labels: the model
+    // reads the column, not just the words.
+    let swapped = dir
+        .read("train.tsv")
+        .replace("\ta\t", "\tc\t")
+        .replace("\tb\t", "\ta\t")
+        .replace("\tc\t", "\tb\t");
+    dir.write("swapped.tsv", &swapped);
+    lexiclade(
+        dir.path(),
+        &["tag", "--model", "m.bin", "swapped.tsv", "--out", "s.pred"],
+    )
+    .ok();
+    assert!(
+        token_accuracy(&dir, "s.pred") > 0.99,
+        "swapping a and b keeps every equality"
+    );
+
+    // A file without column 2, anywhere: one line naming file, line
+    // and model; nothing written.
+    dir.write("short.tsv", "w1\ta\tN\nw2\ta\tY\n\nw3\n");
+    lexiclade(dir.path(), &["tag", "--model", "m.bin", "short.tsv", "--out", "x.pred"])
+        .user_error("short.tsv:4: the model m.bin reads column 2 (tag) as a feature, but the row has 1 column");
+    assert!(!dir.join("x.pred").exists());
+    lexiclade(dir.path(), &["tag", "--model", "m.bin", "short.tsv"])
+        .user_error("short.tsv:4:");
+    // Plain text has no columns.
+    dir.write("plain.txt", "w1 w2 w3\n");
+    lexiclade(dir.path(), &["tag", "--model", "m.bin", "--plain", "plain.txt"])
+        .user_error("m.bin: the model reads input column 2 (tag) as a feature, which --plain text does not have");
+
+    // Training: the label column as a feature, and a column a row lacks.
+    std::fs::remove_file(dir.join("m.bin")).unwrap();
+    train(&["--label-column", "2"]).user_error("train.tsv:1: column 2 is the label column here; the features may not read it (tag)");
+    let config = TAG_CONFIG.replace("column = 2", "column = -1");
+    dir.write("tag.toml", &config);
+    train(&[]).user_error("train.tsv:1: column -1 is the label column here");
+    dir.write("tag.toml", TAG_CONFIG.replace("column = 2", "column = 5"));
+    train(&[]).user_error("train.tsv:1: the features read column 5 (tag), but the row has 3 columns");
+    assert!(!dir.join("m.bin").exists(), "nothing written");
+    // A bad config entry names its key.
+    dir.write(
+        "tag.toml",
+        TAG_CONFIG.replace("ngrams = [[-1, 0]]", "ngrams = [[-1, 1]]"),
+    );
+    train(&[]).user_error("invalid columns[0].ngrams");
+    dir.write("tag.toml", format!("{TAG_CONFIG}[[conjunctions]]\nname = \"x\"\nparts = [\"word\", \"pos\"]\n"));
+    train(&[]).user_error(
+        "invalid conjunctions[0].parts: \"pos\": unknown feature \"pos\"",
+    );
+    dir.write("tag.toml", format!("{TAG_CONFIG}colour = 1\n"));
+    train(&[]).user_error("colour");
+    assert!(!dir.join("m.bin").exists(), "nothing written");
+}
+
+/// The second stage reads the column the first stage's `tag` appended.
+#[test]
+fn a_predicted_column_feeds_a_second_model() {
+    let dir = Dir::new();
+    // Stage 1 learns the tags from the words (a word's tag is fixed by
+    // its number), stage 2 the labels from the predicted tags.
+    let words_to_tags = |text: &str| -> String {
+        text.lines()
+            .map(|l| match l.split('\t').collect::<Vec<_>>()[..] {
+                [w, _, label] => {
+                    let n: u32 = w[1..].parse().unwrap();
+                    format!(
+                        "{w}\t{}\t{label}\n",
+                        if n % 2 == 0 { "a" } else { "b" }
+                    )
+                }
+                _ => "\n".to_string(),
+            })
+            .collect()
+    };
+    // Relabel: with tags fixed by the words, Y where consecutive words
+    // have the same parity.
+    let relabel = |text: &str| -> String {
+        let mut last = None;
+        text.lines()
+            .map(|l| match l.split('\t').collect::<Vec<_>>()[..] {
+                [w, t, _] => {
+                    let label =
+                        if last == Some(t.to_string()) { "Y" } else { "N" };
+                    last = Some(t.to_string());
+                    format!("{w}\t{t}\t{label}\n")
+                }
+                _ => {
+                    last = None;
+                    "\n".to_string()
+                }
+            })
+            .collect()
+    };
+    let train = relabel(&words_to_tags(&tag_fixture(200, 4)));
+    let test = relabel(&words_to_tags(&tag_fixture(40, 5)));
+    // Stage 1 trains on token and tag; stage 2 on token, label and the
+    // predicted tag, as `tag` writes them.
+    let first: String = train
+        .lines()
+        .map(|l| match l.rsplit_once('\t') {
+            Some((token_and_tag, _)) => format!("{token_and_tag}\n"),
+            None => "\n".to_string(),
+        })
+        .collect();
+    dir.write("stage1.tsv", first);
+    lexiclade(
+        dir.path(),
+        &[
+            "train",
+            "--train",
+            "stage1.tsv",
+            "--model",
+            "pos.bin",
+            "--scheme",
+            "none",
+            "--epochs",
+            "3",
+            "-q",
+        ],
+    )
+    .ok();
+    // Drop the gold tags: token and label only, then append predictions.
+    let strip = |text: &str| -> String {
+        text.lines()
+            .map(|l| match l.split('\t').collect::<Vec<_>>()[..] {
+                [w, _, label] => format!("{w}\t{label}\n"),
+                _ => "\n".to_string(),
+            })
+            .collect()
+    };
+    dir.write("train2.tsv", strip(&train));
+    dir.write("test2.tsv", strip(&test));
+    for part in ["train2", "test2"] {
+        lexiclade(
+            dir.path(),
+            &[
+                "tag",
+                "--model",
+                "pos.bin",
+                &format!("{part}.tsv"),
+                "--out",
+                &format!("{part}.tagged"),
+            ],
+        )
+        .ok();
+    }
+    let first_row = dir.read("train2.tagged");
+    assert_eq!(
+        first_row.lines().next().unwrap().split('\t').count(),
+        3,
+        "token, label, predicted tag"
+    );
+    dir.write("ner.toml", TAG_CONFIG.replace("column = 2", "column = 3"));
+    lexiclade(
+        dir.path(),
+        &[
+            "train",
+            "--train",
+            "train2.tagged",
+            "--model",
+            "ner.bin",
+            "--config",
+            "ner.toml",
+            "--label-column",
+            "2",
+            "--epochs",
+            "5",
+            "-q",
+        ],
+    )
+    .ok();
+    // Stage 2 tags the tagged test file (token, gold label, predicted
+    // tag) and appends its label; eval reads the last two columns, so
+    // put the gold label before the prediction.
+    lexiclade(
+        dir.path(),
+        &["tag", "--model", "ner.bin", "test2.tagged", "--out", "test2.pred"],
+    )
+    .ok();
+    let rows: String = dir
+        .read("test2.pred")
+        .lines()
+        .map(|l| match l.split('\t').collect::<Vec<_>>()[..] {
+            [w, gold, _, pred] => format!("{w}\t{gold}\t{pred}\n"),
+            _ => "\n".to_string(),
+        })
+        .collect();
+    dir.write("scored.tsv", rows);
+    assert!(token_accuracy(&dir, "scored.tsv") > 0.99);
 }

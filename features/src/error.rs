@@ -31,13 +31,23 @@ pub enum Error {
     InvalidField {
         /// The key as written in a config file, with its table, for
         /// example `clusters.prefix_lengths`.
-        field: &'static str,
+        field: String,
         /// Why the value was refused.
         reason: String,
     },
     /// The config sets `clusters.enabled = true`, but no clusters were
     /// given to the extractor.
     ClustersRequired,
+    /// A cluster set that sets `enabled = true` was not given clusters.
+    SetRequired {
+        /// The set's name.
+        name: String,
+    },
+    /// Clusters were given for a set the config does not have, or twice.
+    UnknownSet {
+        /// The name given.
+        name: String,
+    },
     /// A cluster directory could not be read.
     Cluster(lexiclade_cluster::Error),
     /// A serialized feature index lists the same feature twice.
@@ -48,8 +58,8 @@ pub enum Error {
 }
 
 impl Error {
-    pub(crate) fn invalid(field: &'static str, reason: String) -> Error {
-        Error::InvalidField { field, reason }
+    pub(crate) fn invalid(field: impl Into<String>, reason: String) -> Error {
+        Error::InvalidField { field: field.into(), reason }
     }
 }
 
@@ -77,6 +87,16 @@ impl fmt::Display for Error {
                 f,
                 "the config sets clusters.enabled = true, but no clusters \
                  were given"
+            ),
+            Error::SetRequired { name } => write!(
+                f,
+                "cluster set {name:?} sets enabled = true, but no clusters \
+                 were given for it (--clusters {name}=DIR)"
+            ),
+            Error::UnknownSet { name } => write!(
+                f,
+                "clusters given for {name:?}, which is not a cluster set of \
+                 the config or was given twice"
             ),
             // The cluster error names its file and line itself.
             Error::Cluster(e) => write!(f, "{e}"),

@@ -24,6 +24,17 @@
 //! | `clusters.whole_path` | `path[-1]=011010` |
 //! | `clusters`, no path | `path[0]:none` |
 //! | `clusters`, outside | `path[-1]:start`, `path[+1]:end` |
+//! | `cluster_sets` | `lc.p4[0]=0110`, `lc.path[0]=0110101`, `lc.path[+1]:none` |
+//! | `columns` window | `pos[-1]=DT`, `pos[-2]:start` |
+//! | `columns` n-grams | `pos[-1,0]=DT\|NN`, `pos[0,+1]=NN\|\end` |
+//! | `conjunctions` | `wp=the\|DT`, `pp=\start\|0110`, `wpath=zebra\|\none` |
+//!
+//! In joined values (n-grams and conjunctions) a `|` or `\` inside a
+//! value is escaped by a `\`, a position beyond the sentence is `\start`
+//! or `\end` (with boundary markers off, the feature is not emitted),
+//! and a word without a path is `\none`; no escaped value can be any of
+//! these. The features of cluster sets, columns and conjunctions follow
+//! those of `[clusters]`, in the config's order.
 //!
 //! Features of one token come in the order of that table, each at most
 //! once. Character prefixes and suffixes count Unicode scalar values, up
@@ -47,7 +58,7 @@ use std::fmt::Write;
 
 use serde::{Deserialize, Serialize};
 
-use crate::config::{CheckedConfig, FeatureConfig};
+use crate::config::{Atom, AtomKind, CheckedConfig, FeatureConfig};
 use crate::error::{Error, Result};
 use crate::index::FeatureIndex;
 use crate::paths::{lowercase_into, needs_lowercasing, Paths};
@@ -64,6 +75,43 @@ pub struct Extractor {
     config: CheckedConfig,
     /// The clusters, if cluster features are on.
     paths: Option<Paths>,
+    /// The clusters of each `cluster_sets` entry, where it is on.
+    sets: Vec<Option<Paths>>,
+    /// The conjunctions parsed, those of sets that are off left out.
+    #[serde(skip)]
+    plan: Plan,
+}
+
+/// What the extractor works out of its config once.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+struct Plan {
+    /// Each conjunction that emits: its name, its parts, and whether it
+    /// has few distinct values (no part reads the word itself).
+    conjunctions: Vec<(String, Vec<Atom>, bool)>,
+    /// The templates of the columns and conjunctions, in the order they
+    /// emit.
+    extras: Vec<Extra>,
+}
+
+/// One template of the input columns or the conjunctions.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Extra {
+    /// `columns[k]` at offset `off`.
+    Window { k: usize, off: i32 },
+    /// `columns[k]`'s n-gram `g`.
+    Gram { k: usize, g: usize },
+    /// The plan's conjunction `c`.
+    Conj { c: usize },
+}
+
+impl Extra {
+    /// Whether the template has few distinct values (reads no word).
+    fn small(self, plan: &Plan) -> bool {
+        match self {
+            Extra::Conj { c } => plan.conjunctions[c].2,
+            _ => true,
+        }
+    }
 }
 
 impl Extractor {
@@ -79,12 +127,123 @@ impl Extractor {
         config: CheckedConfig,
         paths: Option<Paths>,
     ) -> Result<Extractor> {
+        Extractor::with_sets(config, paths, Vec::new())
+    }
+
+    /// [`Extractor::new`] with the clusters of the config's
+    /// `[[cluster_sets]]` by name. A set left out has no features unless
+    /// it sets `enabled = true`, a set that sets `enabled = false` drops
+    /// its clusters.
+    ///
+    /// # Errors
+    ///
+    /// [`Error::ClustersRequired`] as for `new`,
+    /// [`Error::SetRequired`] for a set with `enabled = true` not given,
+    /// and [`Error::UnknownSet`] for a name the config has no set of (or
+    /// a name given twice).
+    pub fn with_sets(
+        config: CheckedConfig,
+        paths: Option<Paths>,
+        sets: Vec<(String, Paths)>,
+    ) -> Result<Extractor> {
+        let mut by_set: Vec<Option<Paths>> =
+            vec![None; config.cluster_sets.len()];
+        for (name, p) in sets {
+            let k = config.cluster_sets.iter().position(|s| s.name == name);
+            match k {
+                Some(k) if by_set[k].is_none() => by_set[k] = Some(p),
+                _ => return Err(Error::UnknownSet { name }),
+            }
+        }
+        Extractor::from_parts(config, paths, by_set)
+    }
+
+    fn from_parts(
+        config: CheckedConfig,
+        paths: Option<Paths>,
+        sets: Vec<Option<Paths>>,
+    ) -> Result<Extractor> {
         let paths = match (config.clusters.enabled, paths) {
             (Some(false), _) => None,
             (Some(true), None) => return Err(Error::ClustersRequired),
             (_, paths) => paths,
         };
-        Ok(Extractor { config, paths })
+        if sets.len() != config.cluster_sets.len() {
+            return Err(Error::InvalidField {
+                field: "cluster_sets".into(),
+                reason: format!(
+                    "clusters for {} sets, but the config has {}",
+                    sets.len(),
+                    config.cluster_sets.len()
+                ),
+            });
+        }
+
+        let mut on = Vec::new();
+        for (set, p) in config.cluster_sets.iter().zip(sets) {
+            on.push(match (set.enabled, p) {
+                (Some(false), _) => None,
+                (Some(true), None) => {
+                    return Err(Error::SetRequired { name: set.name.clone() })
+                }
+                (_, p) => p,
+            });
+        }
+        let mut plan = Plan::default();
+        for c in &config.conjunctions {
+            let atoms = c
+                .parts
+                .iter()
+                .map(|part| config.parse_atom(part))
+                .collect::<std::result::Result<Vec<Atom>, String>>()
+                .map_err(|reason| Error::InvalidField {
+                    field: "conjunctions".into(),
+                    reason,
+                })?;
+            let available = atoms.iter().all(|a| match a.kind {
+                AtomKind::Path { set: 0, .. } => paths.is_some(),
+                AtomKind::Path { set, .. } => on[set - 1].is_some(),
+                _ => true,
+            });
+            if available {
+                let small = atoms.iter().all(|a| {
+                    matches!(
+                        a.kind,
+                        AtomKind::Column(_)
+                            | AtomKind::Path { .. }
+                            | AtomKind::Shape
+                    )
+                });
+                plan.conjunctions.push((c.name.clone(), atoms, small));
+            }
+        }
+        for (k, c) in config.columns.iter().enumerate() {
+            plan.extras
+                .extend(c.window.iter().map(|&off| Extra::Window { k, off }));
+            plan.extras
+                .extend((0..c.ngrams.len()).map(|g| Extra::Gram { k, g }));
+        }
+        plan.extras
+            .extend((0..plan.conjunctions.len()).map(|c| Extra::Conj { c }));
+        Ok(Extractor { config, paths, sets: on, plan })
+    }
+
+    /// The input columns the features read, as written in the config
+    /// (1-based, negative from the end), in the order the `columns`
+    /// argument of the extraction calls lists their values.
+    pub fn columns(&self) -> Vec<i64> {
+        self.config.get().columns.iter().map(|c| c.column).collect()
+    }
+
+    /// The names of the cluster sets whose clusters are in use, with
+    /// their clusters.
+    pub fn cluster_sets(&self) -> impl Iterator<Item = (&str, &Paths)> {
+        self.config
+            .get()
+            .cluster_sets
+            .iter()
+            .zip(&self.sets)
+            .filter_map(|(s, p)| Some((s.name.as_str(), p.as_ref()?)))
     }
 
     /// The config.
@@ -104,18 +263,41 @@ impl Extractor {
 
     /// Fills `out` with the features of every token of `tokens`, replacing
     /// what it held.
+    ///
+    /// # Panics
+    ///
+    /// If the config reads input columns ([`Extractor::columns`]): use
+    /// [`Extractor::extract_with`].
     pub fn extract<S: AsRef<str>>(&self, tokens: &[S], out: &mut Features) {
+        self.extract_with(tokens, &[], out);
+    }
+
+    /// [`Extractor::extract`] for a sentence with input columns:
+    /// `columns[k]` holds the values of the column
+    /// [`Extractor::columns`] lists `k`th, one per token.
+    ///
+    /// # Panics
+    ///
+    /// If `columns` lacks a column the config reads or a list is not as
+    /// long as `tokens`.
+    pub fn extract_with<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        columns: &[&[S]],
+        out: &mut Features,
+    ) {
         let Features { text, ends, token_ends, scratch } = out;
         text.clear();
         ends.clear();
         token_ends.clear();
-        self.walk(tokens, scratch, &mut |i, feature| {
+        let mut sink = |i: usize, feature: &str| {
             while token_ends.len() < i {
                 token_ends.push(ends.len());
             }
             text.push_str(feature);
             ends.push(text.len());
-        });
+        };
+        self.walk(tokens, columns, scratch, &mut sink, true);
         while token_ends.len() < tokens.len() {
             token_ends.push(ends.len());
         }
@@ -124,24 +306,30 @@ impl Extractor {
     /// Fills `out` with the ids in `index` of the features of every token
     /// of `tokens`, replacing what it held. Features not in the index are
     /// skipped. This is the call of the tagger's inner loop.
+    ///
+    /// # Panics
+    ///
+    /// As [`Extractor::extract_with`].
     pub fn extract_ids<S: AsRef<str>>(
         &self,
         index: &FeatureIndex,
         tokens: &[S],
+        columns: &[&[S]],
         out: &mut FeatureIds,
     ) {
         let FeatureIds { ids, starts, scratch } = out;
         ids.clear();
         starts.clear();
         starts.push(0);
-        self.walk(tokens, scratch, &mut |i, feature| {
+        let mut sink = |i: usize, feature: &str| {
             while starts.len() <= i {
                 starts.push(ids.len());
             }
             if let Some(id) = index.get(feature) {
                 ids.push(id);
             }
-        });
+        };
+        self.walk(tokens, columns, scratch, &mut sink, true);
         while starts.len() <= tokens.len() {
             starts.push(ids.len());
         }
@@ -153,15 +341,32 @@ impl Extractor {
     /// sentence), so each distinct word's strings are built and looked up
     /// once. The ids are the same as `extract_ids` gives, per token, but
     /// not in the same order.
+    ///
+    /// The features of input columns and conjunctions depend on several
+    /// positions; their ids are cached by the template and the values it
+    /// joins (each token's word and each column value get a number), so
+    /// each distinct combination is built and looked up once. Those of
+    /// further cluster sets are cached by their strings.
+    ///
+    /// # Panics
+    ///
+    /// As [`Extractor::extract_with`].
     pub fn extract_ids_cached<S: AsRef<str>>(
         &self,
         index: &FeatureIndex,
         tokens: &[S],
+        columns: &[&[S]],
         out: &mut FeatureIds,
         cache: &mut IdCache,
     ) {
         if cache.words.len() > IdCache::LIMIT {
+            // The template cache keys on word numbers: it goes too.
             cache.words.clear();
+            cache.entries.clear();
+            cache.templates.clear();
+        }
+        if cache.extras.len() > IdCache::LIMIT {
+            cache.extras.clear();
         }
         let config = self.config.get();
         let lex = &config.lexical;
@@ -172,32 +377,67 @@ impl Extractor {
         if cache.markers.is_empty() {
             cache.markers = self.marker_ids(index, neighbour_offsets, window);
         }
+        // Each token's number in the cache, looked up once.
+        cache.sentence.clear();
         for t in tokens {
             let word = t.as_ref();
-            if !cache.words.contains_key(word) {
-                let entry = self.word_entry(
-                    index,
-                    word,
-                    neighbour_offsets,
-                    window,
-                    &mut out.scratch,
-                );
-                cache.words.insert(word.into(), entry);
+            let k = match cache.words.get(word) {
+                Some(&k) => k,
+                None => {
+                    let entry = self.word_entry(
+                        index,
+                        word,
+                        neighbour_offsets,
+                        window,
+                        &mut out.scratch,
+                    );
+                    cache.entries.push(entry);
+                    let k = (cache.entries.len() - 1) as u32;
+                    cache.words.insert(word.into(), k);
+                    k
+                }
+            };
+            cache.sentence.push(k);
+        }
+        let extra = self.has_extras();
+        if extra {
+            self.check_columns(tokens.len(), columns);
+            self.lookup_paths(tokens, &mut out.scratch);
+            if cache.codes.len() > IdCache::LIMIT
+                || cache.templates.len() > 8 * IdCache::LIMIT
+            {
+                cache.codes.clear();
+                cache.templates.clear();
+            }
+            // A code for every column value (after the tokens' numbers).
+            let IdCache { codes, sentence, .. } = &mut *cache;
+            let mut intern = |value: &str| match codes.get(value) {
+                Some(&c) => c,
+                None => {
+                    let c = codes.len() as u32;
+                    codes.insert(value.into(), c);
+                    c
+                }
+            };
+            let wanted = self.config.get().columns.len();
+            for values in &columns[..wanted] {
+                for v in values.iter() {
+                    sentence.push(intern(v.as_ref()));
+                }
             }
         }
-        let FeatureIds { ids, starts, .. } = out;
+        let FeatureIds { ids, starts, scratch } = out;
         ids.clear();
         starts.clear();
         starts.push(0);
         let n = tokens.len();
         let markers = config.boundary_markers;
+        let word = |j: usize| &cache.entries[cache.sentence[j] as usize];
         for i in 0..n {
-            let entry = &cache.words[tokens[i].as_ref()];
-            ids.extend_from_slice(&entry.local);
+            ids.extend_from_slice(&word(i).local);
             for (k, &off) in neighbour_offsets.iter().enumerate() {
                 match position(i, off, n) {
-                    Ok(j) => ids
-                        .extend(cache.words[tokens[j].as_ref()].neighbour[k]),
+                    Ok(j) => ids.extend(word(j).neighbour[k]),
                     Err(edge) if markers => ids
                         .extend(cache.markers[k][usize::from(edge == "end")]),
                     Err(_) => {}
@@ -205,9 +445,7 @@ impl Extractor {
             }
             for (k, &off) in window.iter().enumerate() {
                 match position(i, off, n) {
-                    Ok(j) => ids.extend_from_slice(
-                        &cache.words[tokens[j].as_ref()].path[k],
-                    ),
+                    Ok(j) => ids.extend_from_slice(&word(j).path[k]),
                     Err(edge) if markers => ids.extend(
                         cache.markers[neighbour_offsets.len() + k]
                             [usize::from(edge == "end")],
@@ -215,8 +453,78 @@ impl Extractor {
                     Err(_) => {}
                 }
             }
+            if extra {
+                let Scratch { feature, key, path_ids, set_ids } = scratch;
+                let found = (&path_ids[..], &set_ids[..]);
+                // The cluster sets' features, through the string cache.
+                self.set_features(i, n, found, feature, &mut |_, f, _| {
+                    let id = match cache.extras.get(f) {
+                        Some(&id) => id,
+                        None => {
+                            let id = index.get(f);
+                            cache.extras.insert(f.into(), id);
+                            id
+                        }
+                    };
+                    ids.extend(id);
+                });
+                // The columns and conjunctions, by the codes of the values
+                // they join: the same codes give the same feature.
+                let code = &cache.sentence;
+                let at = |off: i32, column: Option<usize>| match position(
+                    i, off, n,
+                ) {
+                    Ok(j) => code[column.map_or(0, |k| k + 1) * n + j],
+                    Err("start") => START_CODE,
+                    Err(_) => END_CODE,
+                };
+                for (t, &e) in self.plan.extras.iter().enumerate() {
+                    let mut key3 = [UNUSED_CODE; 3];
+                    match e {
+                        Extra::Window { k, off } => key3[0] = at(off, Some(k)),
+                        Extra::Gram { k, g } => {
+                            let gram = &config.columns[k].ngrams[g];
+                            for (x, &off) in gram.iter().enumerate() {
+                                key3[x] = at(off, Some(k));
+                            }
+                        }
+                        Extra::Conj { c } => {
+                            for (x, atom) in
+                                self.plan.conjunctions[c].1.iter().enumerate()
+                            {
+                                let column = match atom.kind {
+                                    AtomKind::Column(k) => Some(k),
+                                    _ => None,
+                                };
+                                key3[x] = at(atom.offset, column);
+                            }
+                        }
+                    }
+                    let id = match cache.templates.get(&(t as u32, key3)) {
+                        Some(&id) => id,
+                        None => {
+                            let emits = self.write_extra(
+                                e, i, tokens, columns, found, feature, key,
+                            );
+                            let id =
+                                if emits { index.get(feature) } else { None };
+                            cache.templates.insert((t as u32, key3), id);
+                            id
+                        }
+                    };
+                    ids.extend(id);
+                }
+            }
             starts.push(ids.len());
         }
+    }
+
+    /// Whether the config has features beyond those of single words.
+    fn has_extras(&self) -> bool {
+        let c = self.config.get();
+        self.sets.iter().any(Option::is_some)
+            || !c.columns.is_empty()
+            || !self.plan.conjunctions.is_empty()
     }
 
     /// The ids of the edge markers: per neighbour offset, then per path
@@ -262,7 +570,7 @@ impl Extractor {
         let mut local = Vec::new();
         // The word alone as a sentence: its features without brackets
         // are the ones that depend on it alone.
-        self.walk(&[word], scratch, &mut |_, feature| {
+        let mut sink = |_: usize, feature: &str| {
             let contextual = feature.starts_with("w[")
                 || feature.starts_with("path[")
                 || (feature.starts_with('p')
@@ -272,7 +580,9 @@ impl Extractor {
                     local.push(id);
                 }
             }
-        });
+        };
+        let none: &[&[&str]] = &[];
+        self.walk(&[word], none, scratch, &mut sink, false);
         let mut f = String::new();
         let neighbour = neighbour_offsets
             .iter()
@@ -328,25 +638,22 @@ impl Extractor {
     /// Calls `sink(token_index, feature)` for every feature of every
     /// token, tokens in order. The feature string is only lent: copy or
     /// intern it to keep it.
+    ///
+    /// # Panics
+    ///
+    /// As [`Extractor::extract_with`].
     pub fn for_each_feature<S: AsRef<str>>(
         &self,
         tokens: &[S],
+        columns: &[&[S]],
         scratch: &mut Scratch,
         mut sink: impl FnMut(usize, &str),
     ) {
-        self.walk(tokens, scratch, &mut sink);
+        self.walk(tokens, columns, scratch, &mut sink, true);
     }
 
-    fn walk<S: AsRef<str>>(
-        &self,
-        tokens: &[S],
-        s: &mut Scratch,
-        sink: &mut dyn FnMut(usize, &str),
-    ) {
-        let config = self.config.get();
-        let lex = &config.lexical;
-        let markers = config.boundary_markers;
-        let n = tokens.len();
+    /// Looks up the path of every token in every cluster set that is on.
+    fn lookup_paths<S: AsRef<str>>(&self, tokens: &[S], s: &mut Scratch) {
         s.path_ids.clear();
         if let Some(paths) = &self.paths {
             for t in tokens {
@@ -354,6 +661,33 @@ impl Extractor {
                 s.path_ids.push(id);
             }
         }
+        s.set_ids.clear();
+        for paths in self.sets.iter().flatten() {
+            for t in tokens {
+                let id = paths.id_with(t.as_ref(), &mut s.key);
+                s.set_ids.push(id);
+            }
+        }
+    }
+
+    /// Every feature of every token in order; with `extra` false, only
+    /// those of the words and `[clusters]` (the word-cached part).
+    fn walk<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        columns: &[&[S]],
+        s: &mut Scratch,
+        sink: &mut dyn FnMut(usize, &str),
+        extra: bool,
+    ) {
+        let config = self.config.get();
+        let lex = &config.lexical;
+        let markers = config.boundary_markers;
+        let n = tokens.len();
+        if extra {
+            self.check_columns(n, columns);
+        }
+        self.lookup_paths(tokens, s);
         let f = &mut s.feature;
         for (i, token) in tokens.iter().enumerate() {
             let word = token.as_ref();
@@ -476,8 +810,281 @@ impl Extractor {
                     }
                 }
             }
+            if extra {
+                let ids = (&s.path_ids[..], &s.set_ids[..]);
+                self.extra_features(
+                    i,
+                    tokens,
+                    columns,
+                    ids,
+                    f,
+                    &mut s.key,
+                    &mut |i, f, _| sink(i, f),
+                );
+            }
         }
     }
+
+    /// Panics unless `columns` holds one list of `n` values per
+    /// [`Extractor::columns`] entry.
+    fn check_columns<S: AsRef<str>>(&self, n: usize, columns: &[&[S]]) {
+        let want = self.config.get().columns.len();
+        assert!(
+            columns.len() >= want
+                && columns[..want].iter().all(|c| c.len() == n),
+            "the extractor reads {want} input columns of {n} values"
+        );
+    }
+
+    /// The features of token `i` of a sentence of `n` from the cluster
+    /// sets.
+    fn set_features(
+        &self,
+        i: usize,
+        n: usize,
+        ids: (&[Option<u32>], &[Option<u32>]),
+        f: &mut String,
+        sink: &mut dyn FnMut(usize, &str, bool),
+    ) {
+        let config = self.config.get();
+        let markers = config.boundary_markers;
+        let set_ids = ids.1;
+        let mut on = 0;
+        for (set, paths) in config.cluster_sets.iter().zip(&self.sets) {
+            let Some(paths) = paths else { continue };
+            let ids = &set_ids[on * n..(on + 1) * n];
+            on += 1;
+            for &off in &set.window {
+                let at = position(i, off, n);
+                let id = match at {
+                    Ok(j) => ids[j],
+                    Err(_) if !markers => continue,
+                    Err(_) => None,
+                };
+                let Some(id) = id else {
+                    f.clear();
+                    f.push_str(&set.name);
+                    f.push_str(".path[");
+                    push_offset(off, f);
+                    f.push_str("]:");
+                    f.push_str(at.err().unwrap_or("none"));
+                    sink(i, f, true);
+                    continue;
+                };
+                let path = paths.path_of_id(id);
+                for &len in &set.prefix_lengths {
+                    f.clear();
+                    let _ = write!(f, "{}.p{len}[", set.name);
+                    push_offset(off, f);
+                    f.push_str("]=");
+                    f.push_str(&path[..len.min(path.len())]);
+                    sink(i, f, true);
+                }
+                if set.whole_path {
+                    f.clear();
+                    f.push_str(&set.name);
+                    f.push_str(".path[");
+                    push_offset(off, f);
+                    f.push_str("]=");
+                    f.push_str(path);
+                    sink(i, f, true);
+                }
+            }
+        }
+    }
+
+    /// The features of token `i` from the cluster sets, the input
+    /// columns and the conjunctions. `ids` are the path ids of
+    /// [`Extractor::lookup_paths`]. `sink` also hears whether the
+    /// feature has few distinct values (it reads no word).
+    #[allow(clippy::too_many_arguments)]
+    fn extra_features<S: AsRef<str>>(
+        &self,
+        i: usize,
+        tokens: &[S],
+        columns: &[&[S]],
+        ids: (&[Option<u32>], &[Option<u32>]),
+        f: &mut String,
+        key: &mut String,
+        sink: &mut dyn FnMut(usize, &str, bool),
+    ) {
+        self.set_features(i, tokens.len(), ids, f, sink);
+        for &e in &self.plan.extras {
+            if self.write_extra(e, i, tokens, columns, ids, f, key) {
+                sink(i, f, e.small(&self.plan));
+            }
+        }
+    }
+
+    /// Writes the feature of template `e` for token `i` into `f`; false
+    /// when it emits nothing there.
+    #[allow(clippy::too_many_arguments)]
+    fn write_extra<S: AsRef<str>>(
+        &self,
+        e: Extra,
+        i: usize,
+        tokens: &[S],
+        columns: &[&[S]],
+        ids: (&[Option<u32>], &[Option<u32>]),
+        f: &mut String,
+        key: &mut String,
+    ) -> bool {
+        let config = self.config.get();
+        let markers = config.boundary_markers;
+        let n = tokens.len();
+        let (path_ids, set_ids) = ids;
+        match e {
+            Extra::Window { k, off } => {
+                let c = &config.columns[k];
+                let values = columns[k];
+                let at = position(i, off, n);
+                if at.is_err() && !markers {
+                    return false;
+                }
+                f.clear();
+                f.push_str(&c.name);
+                f.push('[');
+                push_offset(off, f);
+                match at {
+                    Ok(j) => {
+                        f.push_str("]=");
+                        f.push_str(values[j].as_ref());
+                    }
+                    Err(edge) => {
+                        f.push_str("]:");
+                        f.push_str(edge);
+                    }
+                }
+            }
+            Extra::Gram { k, g } => {
+                let c = &config.columns[k];
+                let gram = &c.ngrams[g];
+                let values = columns[k];
+                f.clear();
+                f.push_str(&c.name);
+                f.push('[');
+                for (g, &off) in gram.iter().enumerate() {
+                    if g > 0 {
+                        f.push(',');
+                    }
+                    push_offset(off, f);
+                }
+                f.push_str("]=");
+                for (g, &off) in gram.iter().enumerate() {
+                    if g > 0 {
+                        f.push('|');
+                    }
+                    match position(i, off, n) {
+                        Ok(j) => push_escaped(values[j].as_ref(), f),
+                        Err(_) if !markers => return false,
+                        Err(edge) => push_edge(edge, f),
+                    }
+                }
+            }
+            Extra::Conj { c } => {
+                let (name, atoms, _) = &self.plan.conjunctions[c];
+                f.clear();
+                f.push_str(name);
+                f.push('=');
+                for (g, atom) in atoms.iter().enumerate() {
+                    if g > 0 {
+                        f.push('|');
+                    }
+                    let j = match position(i, atom.offset, n) {
+                        Ok(j) => j,
+                        Err(_) if !markers => return false,
+                        Err(edge) => {
+                            push_edge(edge, f);
+                            continue;
+                        }
+                    };
+                    let word = tokens[j].as_ref();
+                    match atom.kind {
+                        AtomKind::Word => push_escaped(word, f),
+                        AtomKind::Lower => {
+                            if needs_lowercasing(word) {
+                                lowercase_into(word, key);
+                                push_escaped(key, f);
+                            } else {
+                                push_escaped(word, f);
+                            }
+                        }
+                        AtomKind::Shape => {
+                            key.clear();
+                            push_shape(word, key);
+                            push_escaped(key, f);
+                        }
+                        AtomKind::Prefix(len) => {
+                            let end = word
+                                .char_indices()
+                                .nth(len)
+                                .map_or(word.len(), |(b, _)| b);
+                            push_escaped(&word[..end], f);
+                        }
+                        AtomKind::Suffix(len) => {
+                            let start = word
+                                .char_indices()
+                                .rev()
+                                .nth(len - 1)
+                                .map_or(0, |(b, _)| b);
+                            push_escaped(&word[start..], f);
+                        }
+                        AtomKind::Column(k) => {
+                            push_escaped(columns[k][j].as_ref(), f)
+                        }
+                        AtomKind::Path { set, bits } => {
+                            let (paths, id) = if set == 0 {
+                                (self.paths.as_ref(), path_ids.get(j).copied())
+                            } else {
+                                let on = self.sets[..set - 1]
+                                    .iter()
+                                    .filter(|p| p.is_some())
+                                    .count();
+                                let id = set_ids.get(on * n + j).copied();
+                                (self.sets[set - 1].as_ref(), id)
+                            };
+                            // The plan keeps only conjunctions whose sets
+                            // are on.
+                            let (Some(paths), Some(id)) = (paths, id) else {
+                                return false;
+                            };
+                            match id {
+                                None => f.push_str("\\none"),
+                                Some(id) => {
+                                    let path = paths.path_of_id(id);
+                                    let len = bits.unwrap_or(path.len());
+                                    f.push_str(&path[..len.min(path.len())]);
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        true
+    }
+}
+
+/// Appends `value` with `\` and `|` escaped by a backslash, so that
+/// joined values can be told apart.
+fn push_escaped(value: &str, f: &mut String) {
+    if value.contains(['\\', '|']) {
+        for c in value.chars() {
+            if c == '\\' || c == '|' {
+                f.push('\\');
+            }
+            f.push(c);
+        }
+    } else {
+        f.push_str(value);
+    }
+}
+
+/// Appends the marker of a position beyond the sentence in a joined
+/// value: `\start` or `\end`, which no escaped value can be.
+fn push_edge(edge: &str, f: &mut String) {
+    f.push('\\');
+    f.push_str(edge);
 }
 
 /// Feature ids of words, kept across sentences by
@@ -485,9 +1092,30 @@ impl Extractor {
 /// index: use a new cache for another model.
 #[derive(Clone, Debug, Default)]
 pub struct IdCache {
-    words: rustc_hash::FxHashMap<Box<str>, WordIds>,
+    /// Each word's number in `entries`.
+    words: rustc_hash::FxHashMap<Box<str>, u32>,
+    entries: Vec<WordIds>,
     markers: Vec<[Option<u32>; 2]>,
+    /// The ids of the features of cluster sets, columns and
+    /// conjunctions seen so far: a POS tag or tag pair recurs on every
+    /// few tokens, and this small table stays in the processor's caches
+    /// where the whole index does not.
+    extras: rustc_hash::FxHashMap<Box<str>, Option<u32>>,
+    /// A code for each column value seen.
+    codes: rustc_hash::FxHashMap<Box<str>, u32>,
+    /// The id of each column or conjunction template (its number in the
+    /// plan) for the codes of the values it joins.
+    templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
+    /// The codes of the current sentence: its tokens' numbers in
+    /// `entries`, then the codes of each column's values.
+    sentence: Vec<u32>,
 }
+
+/// The codes of a position before the sentence, after it, and of a part
+/// a template does not have.
+const START_CODE: u32 = u32::MAX;
+const END_CODE: u32 = u32::MAX - 1;
+const UNUSED_CODE: u32 = u32::MAX - 2;
 
 impl IdCache {
     /// Words kept before the cache starts afresh (bounds its memory).
@@ -583,6 +1211,8 @@ pub struct Scratch {
     feature: String,
     key: String,
     path_ids: Vec<Option<u32>>,
+    /// The path ids in each cluster set that is on, set after set.
+    set_ids: Vec<Option<u32>>,
 }
 
 /// The features of every token of one sentence, as strings, filled by
@@ -718,13 +1348,14 @@ impl FeatureIds {
 struct RawExtractor {
     config: CheckedConfig,
     paths: Option<Paths>,
+    sets: Vec<Option<Paths>>,
 }
 
 impl TryFrom<RawExtractor> for Extractor {
     type Error = Error;
 
     fn try_from(raw: RawExtractor) -> Result<Extractor> {
-        Extractor::new(raw.config, raw.paths)
+        Extractor::from_parts(raw.config, raw.paths, raw.sets)
     }
 }
 
@@ -1106,7 +1737,7 @@ mod tests {
         let mut ids = FeatureIds::new();
         assert!(ids.is_empty());
         let index = FeatureIndex::from_sentences(&e, [["x"]]);
-        e.extract_ids(&index, &[] as &[&str], &mut ids);
+        e.extract_ids(&index, &[] as &[&str], &[], &mut ids);
         assert!(ids.is_empty() && ids.starts() == [0]);
     }
 
@@ -1120,7 +1751,7 @@ mod tests {
         let e = Extractor::new(c, Some(paths(false))).unwrap();
         let index = FeatureIndex::from_sentences(&e, [["the", "cat"]]);
         let mut ids = FeatureIds::new();
-        e.extract_ids(&index, &["cat", "dog", "the"], &mut ids);
+        e.extract_ids(&index, &["cat", "dog", "the"], &[], &mut ids);
         let names = index.names();
         let named: Vec<Vec<&str>> = (0..ids.len())
             .map(|i| {
@@ -1149,7 +1780,7 @@ mod tests {
         let tokens = ["The", "cat", "sat", "on", "the", "mat", "."];
         let mut seen: Vec<Vec<String>> = vec![Vec::new(); tokens.len()];
         let mut scratch = Scratch::default();
-        e.for_each_feature(&tokens, &mut scratch, |i, f| {
+        e.for_each_feature(&tokens, &[], &mut scratch, |i, f| {
             seen[i].push(f.to_string())
         });
         assert_eq!(seen, features(&e, &tokens));
@@ -1207,10 +1838,11 @@ mod tests {
                     (FeatureIds::new(), FeatureIds::new());
                 for round in 0..2 {
                     for s in sentences {
-                        e.extract_ids(&index, s, &mut plain);
+                        e.extract_ids(&index, s, &[], &mut plain);
                         e.extract_ids_cached(
                             &index,
                             s,
+                            &[],
                             &mut cached,
                             &mut cache,
                         );
@@ -1255,5 +1887,253 @@ mod tests {
         shared::<FeatureIndex>();
         shared::<Features>();
         shared::<FeatureIds>();
+    }
+
+    fn features_with(
+        e: &Extractor,
+        tokens: &[&str],
+        columns: &[&[&str]],
+    ) -> Vec<Vec<String>> {
+        let mut out = Features::new();
+        e.extract_with(tokens, columns, &mut out);
+        out.iter().map(|t| t.map(String::from).collect()).collect()
+    }
+
+    /// A config with only the extras of `toml` (no lexical templates, no
+    /// `[clusters]` features unless `toml` turns them on).
+    fn extras(toml: &str) -> CheckedConfig {
+        let mut c = FeatureConfig::from_toml(toml).unwrap();
+        let l = &mut c.lexical;
+        (l.word, l.lowercase, l.char_prefixes, l.char_suffixes) =
+            (false, false, false, false);
+        (l.shape, l.case_flags, l.char_flags, l.neighbours) =
+            (false, false, false, false);
+        c.check().unwrap()
+    }
+
+    #[test]
+    fn column_windows_and_ngrams() {
+        let c = extras(
+            "[[columns]]\nname = \"pos\"\ncolumn = 2\nwindow = [-1, 0]\n\
+             ngrams = [[-1, 0], [0, 1, 2]]\n",
+        );
+        let e = Extractor::new(c, None).unwrap();
+        assert_eq!(e.columns(), [2]);
+        let tags = ["DT", "N|N", "V\\"];
+        let got = features_with(&e, &["the", "cat", "sat"], &[&tags]);
+        let want: [&[&str]; 3] = [
+            &[
+                "bias",
+                "pos[-1]:start",
+                "pos[0]=DT",
+                "pos[-1,0]=\\start|DT",
+                "pos[0,+1,+2]=DT|N\\|N|V\\\\",
+            ],
+            &[
+                "bias",
+                "pos[-1]=DT",
+                "pos[0]=N|N",
+                "pos[-1,0]=DT|N\\|N",
+                "pos[0,+1,+2]=N\\|N|V\\\\|\\end",
+            ],
+            &[
+                "bias",
+                "pos[-1]=N|N",
+                "pos[0]=V\\",
+                "pos[-1,0]=N\\|N|V\\\\",
+                "pos[0,+1,+2]=V\\\\|\\end|\\end",
+            ],
+        ];
+        assert_eq!(got, want);
+        // Without markers, a window or n-gram beyond the sentence emits
+        // nothing.
+        let c = extras(
+            "boundary_markers = false\n[[columns]]\nname = \"pos\"\n\
+             column = -1\nwindow = [-1]\nngrams = [[0, 1]]\n",
+        );
+        let e = Extractor::new(c, None).unwrap();
+        let got = features_with(&e, &["a", "b"], &[&["X", "Y"]]);
+        assert_eq!(
+            got,
+            [vec!["bias", "pos[0,+1]=X|Y"], vec!["bias", "pos[-1]=X"]]
+        );
+    }
+
+    #[test]
+    fn conjunctions_of_every_kind() {
+        let c = extras(
+            "[clusters]\nprefix_lengths = [2]\nwindow = [0]\nenabled = true\n\
+             [[columns]]\nname = \"pos\"\ncolumn = 2\nwindow = []\nngrams = [[0, 1]]\n\
+             [[conjunctions]]\nname = \"wp\"\nparts = [\"word\", \"pos\"]\n\
+             [[conjunctions]]\nname = \"lx\"\nparts = [\"lower[-1]\", \"shape[+1]\"]\n\
+             [[conjunctions]]\nname = \"ax\"\nparts = [\"pre2\", \"suf2\", \"path\"]\n\
+             [[conjunctions]]\nname = \"pp\"\nparts = [\"p2[-1]\", \"p3\"]\n",
+        );
+        let e = Extractor::new(c, Some(paths(false))).unwrap();
+        let got =
+            features_with(&e, &["The", "cat", "zebra"], &[&["D|T", "N", "N"]]);
+        let want: [&[&str]; 3] = [
+            &[
+                "bias",
+                "path[0]:none",
+                "pos[0,+1]=D\\|T|N",
+                "wp=The|D\\|T",
+                "lx=\\start|x",
+                "ax=Th|he|\\none",
+                "pp=\\start|\\none",
+            ],
+            &[
+                "bias",
+                "p2[0]=01",
+                "pos[0,+1]=N|N",
+                "wp=cat|N",
+                "lx=the|x",
+                "ax=ca|at|011010",
+                "pp=\\none|011",
+            ],
+            &[
+                "bias",
+                "path[0]:none",
+                "pos[0,+1]=N|\\end",
+                "wp=zebra|N",
+                "lx=cat|\\end",
+                "ax=ze|ra|\\none",
+                "pp=01|\\none",
+            ],
+        ];
+        assert_eq!(got, want);
+        // Without clusters the conjunctions of paths emit nothing.
+        let c = extras(
+            "[[conjunctions]]\nname = \"pp\"\nparts = [\"p2[-1]\", \"word\"]\n\
+             [[conjunctions]]\nname = \"ww\"\nparts = [\"word[-1]\", \"word\"]\n",
+        );
+        let e = Extractor::new(c, None).unwrap();
+        assert_eq!(
+            features(&e, &["a", "b"]),
+            [["bias", "ww=\\start|a"], ["bias", "ww=a|b"]]
+        );
+    }
+
+    #[test]
+    fn cluster_sets_have_their_own_prefixes_and_windows() {
+        let toml = "[clusters]\nprefix_lengths = [2]\nwindow = [0]\n\
+                    [[cluster_sets]]\nname = \"lc\"\nprefix_lengths = [1, 3]\n\
+                    whole_path = true\nwindow = [1]\n\
+                    [[conjunctions]]\nname = \"both\"\nparts = [\"p2\", \"lc.path\"]\n";
+        let e = Extractor::with_sets(
+            extras(toml),
+            Some(paths(false)),
+            vec![("lc".into(), paths(true))],
+        )
+        .unwrap();
+        assert_eq!(e.cluster_sets().map(|s| s.0).collect::<Vec<_>>(), ["lc"]);
+        let got = features(&e, &["The", "cat"]);
+        let want: [&[&str]; 2] = [
+            &[
+                "bias",
+                "path[0]:none",
+                "lc.p1[+1]=0",
+                "lc.p3[+1]=011",
+                "lc.path[+1]=011010",
+                "both=\\none|0010",
+            ],
+            &["bias", "p2[0]=01", "lc.path[+1]:end", "both=01|011010"],
+        ];
+        assert_eq!(got, want);
+        // The set left out: no features of it, and no conjunction using it.
+        let e = Extractor::new(extras(toml), Some(paths(false))).unwrap();
+        assert_eq!(features(&e, &["cat"]), [["bias", "p2[0]=01"]]);
+        // Unknown names and required sets.
+        let err = Extractor::with_sets(
+            extras(toml),
+            None,
+            vec![("uc".into(), paths(true))],
+        )
+        .unwrap_err();
+        assert!(matches!(err, Error::UnknownSet { .. }), "{err:?}");
+        let required =
+            toml.replace("name = \"lc\"", "name = \"lc\"\nenabled = true");
+        let err = Extractor::new(extras(&required), None).unwrap_err();
+        assert!(err.to_string().contains("--clusters lc=DIR"), "{err}");
+        // Serialised with every set, and checked again on the way in.
+        let e = Extractor::with_sets(
+            extras(&required),
+            None,
+            vec![("lc".into(), paths(true))],
+        )
+        .unwrap();
+        let json = serde_json::to_string(&e).unwrap();
+        let back: Extractor = serde_json::from_str(&json).unwrap();
+        assert_eq!(back, e);
+        assert_eq!(
+            features(&back, &["The", "cat"]),
+            features(&e, &["The", "cat"])
+        );
+    }
+
+    /// The cached ids equal the uncached ones with every extra on.
+    #[test]
+    fn cached_ids_with_extras() {
+        let toml = "[clusters]\nprefix_lengths = [2]\n\
+                    [[cluster_sets]]\nname = \"lc\"\nprefix_lengths = [1]\n\
+                    [[columns]]\nname = \"pos\"\ncolumn = 2\nwindow = [-1, 0, 1]\n\
+                    ngrams = [[-1, 0]]\n\
+                    [[conjunctions]]\nname = \"wp\"\nparts = [\"word\", \"pos[1]\"]\n\
+                    [[conjunctions]]\nname = \"pl\"\nparts = [\"lc.p1[-1]\", \"p2\"]\n";
+        for markers in [true, false] {
+            let mut c = FeatureConfig::from_toml(toml).unwrap();
+            c.clusters.whole_path = true;
+            c.boundary_markers = markers;
+            let e = Extractor::with_sets(
+                c.check().unwrap(),
+                Some(paths(false)),
+                vec![("lc".into(), paths(true))],
+            )
+            .unwrap();
+            let sentences: [(&[&str], &[&str]); 3] = [
+                (&["The", "cat", "sat"], &["D", "N", "V"]),
+                (&["é", "cat"], &["X", "N"]),
+                (&["the", "zebra", "sat", "cat"], &["D", "N", "V", "Y"]),
+            ];
+            let mut builder = crate::FeatureIndexBuilder::new();
+            let mut buf = Features::new();
+            for (tokens, tags) in &sentences[..2] {
+                e.extract_with(tokens, &[*tags], &mut buf);
+                builder.add(&buf);
+            }
+            let index = builder.build(1);
+            let mut cache = IdCache::new();
+            let (mut plain, mut cached) =
+                (FeatureIds::new(), FeatureIds::new());
+            for (tokens, tags) in sentences.iter().chain(&sentences) {
+                let (tokens, tags) = (*tokens, *tags);
+                e.extract_ids(&index, tokens, &[tags], &mut plain);
+                e.extract_ids_cached(
+                    &index,
+                    tokens,
+                    &[tags],
+                    &mut cached,
+                    &mut cache,
+                );
+                for i in 0..tokens.len() {
+                    let mut a = plain.token(i).to_vec();
+                    let mut b = cached.token(i).to_vec();
+                    a.sort_unstable();
+                    b.sort_unstable();
+                    assert_eq!(
+                        a, b,
+                        "{tokens:?} token {i}, markers {markers}"
+                    );
+                }
+            }
+        }
+    }
+
+    #[test]
+    #[should_panic(expected = "input columns")]
+    fn a_missing_column_list_is_a_caller_bug() {
+        let c = extras("[[columns]]\nname = \"pos\"\ncolumn = 2\n");
+        let e = Extractor::new(c, None).unwrap();
+        features(&e, &["a"]);
     }
 }

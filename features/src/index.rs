@@ -216,7 +216,7 @@ mod tests {
         let e = extractor(2);
         let index = FeatureIndex::from_sentences(&e, TRAIN);
         let mut ids = crate::FeatureIds::new();
-        e.extract_ids(&index, &["a", "c", "q"], &mut ids);
+        e.extract_ids(&index, &["a", "c", "q"], &[], &mut ids);
         assert_eq!(ids.token(0), [0, 1]);
         assert_eq!(ids.token(1), [0]);
         assert_eq!(ids.token(2), [0]);

@@ -1,7 +1,9 @@
 //! Token features for a sequence labeler: prefixes of each word's
-//! cluster path over a window of positions, plus the usual lexical
-//! templates (the word, its affixes, its shape, capitalisation,
-//! neighbouring words).
+//! cluster path over a window of positions (from one or several cluster
+//! sets), plus the usual lexical templates (the word, its affixes, its
+//! shape, capitalisation, neighbouring words), input columns such as POS
+//! tags over a window and as n-grams, and conjunctions of two or three
+//! of these values.
 //!
 //! The main types:
 //!
@@ -37,7 +39,7 @@
 //! let train = [vec!["Rust", "rocks"], vec!["Rust", "rusts"]];
 //! let index = FeatureIndex::from_sentences(&extractor, &train);
 //! let mut ids = FeatureIds::new();
-//! extractor.extract_ids(&index, &["Rust", "rules"], &mut ids);
+//! extractor.extract_ids(&index, &["Rust", "rules"], &[], &mut ids);
 //! assert_eq!(ids.token(0).len(), features.token(0).len());
 //! assert!(ids.token(1).len() < features.token(1).len());
 //! # Ok(())
@@ -68,7 +70,8 @@ pub mod index;
 pub mod paths;
 
 pub use config::{
-    CheckedConfig, ClusterFeatures, FeatureConfig, LexicalFeatures,
+    CheckedConfig, ClusterFeatures, ClusterSet, ColumnFeatures, Conjunction,
+    FeatureConfig, LexicalFeatures,
 };
 pub use error::{Error, Result};
 pub use extract::{

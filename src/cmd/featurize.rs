@@ -3,10 +3,13 @@
 
 use std::{io::Write, path::PathBuf};
 
-use anyhow::{bail, Context, Result};
+use anyhow::{Context, Result};
 use lexiclade::atomic::AtomicFile;
-use lexiclade_features::{Extractor, FeatureConfig, Features, Paths};
-use lexiclade_tagger::columns::{read_columns, Column};
+use lexiclade_features::{Extractor, FeatureConfig, Features};
+use lexiclade_tagger::{
+    columns::{read_columns, Column},
+    pipeline::{column_names, feature_column_indexes},
+};
 
 /// Write the features a config gives each token of column files.
 ///
@@ -19,8 +22,10 @@ use lexiclade_tagger::columns::{read_columns, Column};
 /// The column files hold one token a line with the token in the first
 /// column (split on tabs only when every token row holds a tab, so that
 /// a token may hold spaces or be empty, otherwise on runs of spaces and
-/// tabs; the other columns are ignored), blank lines between sentences,
-/// and `-DOCSTART-` lines, which are skipped and end a sentence.
+/// tabs; the other columns are ignored unless the config's [[columns]]
+/// read them, as `pos[-1]=DT`), blank lines between sentences, and
+/// `-DOCSTART-` lines, which are skipped and end a sentence. Conjunctions
+/// show as `NAME=a|b`, cluster sets as `SET.p4[0]=0110`.
 #[derive(clap::Args)]
 pub struct Args {
     /// Column files, read in order; `-` reads standard input.
@@ -34,9 +39,18 @@ pub struct Args {
     /// cluster path features. Required when the config sets
     /// `clusters.enabled = true`, unused when it sets false; when the
     /// config leaves the key out, cluster features are on exactly when
-    /// this is given.
-    #[arg(long, value_name = "DIR")]
-    clusters: Option<PathBuf>,
+    /// this is given. Repeat as --clusters NAME=DIR for each of the
+    /// config's [[cluster_sets]], with the same rules per set.
+    #[arg(long, value_name = "[NAME=]DIR")]
+    clusters: Vec<PathBuf>,
+    /// The token column, 1-based; negative counts from the end.
+    #[arg(
+        long,
+        default_value = "1",
+        value_name = "N",
+        allow_hyphen_values = true
+    )]
+    token_column: Column,
     /// Write to FILE instead of standard output (`-` is standard output).
     /// FILE is written under a temporary name beside it and renamed at
     /// the end, so a failed run leaves nothing half-written; it may not
@@ -56,27 +70,14 @@ pub fn run(args: Args) -> Result<()> {
     let config = FeatureConfig::read(&args.config)?
         .check()
         .with_context(|| args.config.display().to_string())?;
-    let paths = match (&args.clusters, config.clusters.enabled) {
-        (Some(dir), Some(false)) => {
-            if !args.quiet {
-                eprintln!(
-                    "lexiclade: notice: {} sets clusters.enabled = false; \
-                     --clusters {} is not used",
-                    args.config.display(),
-                    dir.display()
-                );
-            }
-            None
+    let dirs = super::ClusterDirs::parse(&args.clusters)?;
+    let quiet = args.quiet;
+    let name = args.config.display().to_string();
+    let extractor = dirs.extractor(config, &name, &mut |notice| {
+        if !quiet {
+            eprintln!("lexiclade: notice: {notice}");
         }
-        (Some(dir), _) => Some(Paths::read(dir)?),
-        (None, Some(true)) => bail!(
-            "{}: sets clusters.enabled = true, so --clusters DIR is needed \
-             (the -no-clusters configs are the baselines without clusters)",
-            args.config.display()
-        ),
-        (None, _) => None,
-    };
-    let extractor = Extractor::new(config, paths)?;
+    })?;
 
     let out = match &args.out {
         Some(p) if p.as_os_str() != "-" => Some(p.as_path()),
@@ -84,24 +85,35 @@ pub fn run(args: Args) -> Result<()> {
     };
     let Some(out) = out else {
         let mut w = lexiclade::atomic::standard_output();
-        featurize(&extractor, &args.inputs, args.quiet, &mut w)?;
+        featurize(
+            &extractor,
+            &args.inputs,
+            args.token_column,
+            args.quiet,
+            &mut w,
+        )?;
         w.flush()?;
         return Ok(());
     };
 
     let mut read = args.inputs.clone();
     read.push(args.config.clone());
-    if let Some(dir) = &args.clusters {
+    for dir in dirs.all() {
         read.extend(
             ["clusters.tsv", "merges.tsv", "summary.json", "timing.json"]
                 .map(|f| dir.join(f)),
         );
-        read.push(dir.clone());
+        read.push(dir);
     }
     lexiclade::atomic::refuse_overlap(&read, out)?;
     let mut file = AtomicFile::create(out, args.force)?;
-    let (sentences, tokens) =
-        featurize(&extractor, &args.inputs, args.quiet, file.writer())?;
+    let (sentences, tokens) = featurize(
+        &extractor,
+        &args.inputs,
+        args.token_column,
+        args.quiet,
+        file.writer(),
+    )?;
     file.commit()?;
     if !args.quiet {
         eprintln!(
@@ -117,17 +129,40 @@ pub fn run(args: Args) -> Result<()> {
 fn featurize(
     extractor: &Extractor,
     inputs: &[PathBuf],
+    token_column: Column,
     quiet: bool,
     w: &mut dyn Write,
 ) -> Result<(u64, u64)> {
     let mut features = Features::new();
     let (mut sentences, mut tokens_seen) = (0, 0);
+    let wanted = column_names(extractor);
+    // Every file is read and its columns checked before anything is
+    // written, so that a row without a column leaves no partial output.
+    let mut files = Vec::new();
     for input in inputs {
         let file = read_columns(input)?;
         super::warn_mixed(&file, quiet);
+        let mut found = Vec::with_capacity(file.sentences.len());
         for sentence in &file.sentences {
-            let tokens = sentence.column(Column::FIRST)?;
-            extractor.extract(&tokens, &mut features);
+            sentence.column(token_column)?;
+            found.push(feature_column_indexes(sentence, &wanted, None)?);
+        }
+        files.push((file, found));
+    }
+    for (file, found) in &files {
+        for (sentence, found) in file.sentences.iter().zip(found) {
+            let tokens = sentence.column(token_column)?;
+            let columns: Vec<Vec<&str>> = found
+                .iter()
+                .map(|&col| {
+                    (0..sentence.len())
+                        .map(|row| sentence.cell(row, col))
+                        .collect()
+                })
+                .collect();
+            let columns: Vec<&[&str]> =
+                columns.iter().map(Vec::as_slice).collect();
+            extractor.extract_with(&tokens, &columns, &mut features);
             for (token, feats) in tokens.iter().zip(features.iter()) {
                 w.write_all(token.as_bytes())?;
                 for f in feats {

@@ -10,7 +10,8 @@ use lexiclade_cluster::{
 };
 use lexiclade_tagger::{
     columns::{read_columns, Column},
-    pipeline::{TagBuffers, TaggerModel},
+    pipeline::{feature_column_indexes, TagBuffers, TaggerModel},
+    Error as TaggerError,
 };
 
 /// Tag text with a model written by `lexiclade train`.
@@ -21,7 +22,10 @@ use lexiclade_tagger::{
 /// may hold spaces or be empty, and come back unchanged); other files on
 /// runs of spaces and tabs (see `train --help`). With
 /// --plain, reads one sentence per line and writes the token and its
-/// label per line.
+/// label per line. A model whose config reads input columns
+/// ([[columns]]) reads them from the column files, numbered as at
+/// training, and refuses --plain text; the output of one model can be
+/// the input of another that reads the appended column.
 #[derive(clap::Args)]
 pub struct Args {
     /// The model file.
@@ -65,23 +69,79 @@ pub fn run(args: Args) -> Result<()> {
         lexiclade::atomic::refuse_overlap(&inputs, out)?;
     }
     let model = TaggerModel::load(&args.model)?;
+    let features = model.columns();
+    if args.plain && !features.is_empty() {
+        let (column, name) = features[0];
+        bail!(
+            "{}: the model reads input column {column} ({name}) as a \
+             feature, which --plain text does not have; tag a column file \
+             that holds it",
+            args.model.display()
+        );
+    }
     let mut work = TagBuffers::default();
-    let mut write = |out: &mut dyn Write| -> Result<()> {
+    // Column files are read and checked whole before anything is
+    // written, so that a bad row leaves no partial output.
+    let mut files = Vec::new();
+    if !args.plain {
         for input in &args.inputs {
-            if args.plain {
+            let file = read_columns(input)?;
+            super::warn_mixed(&file, false);
+            let mut wanted = Vec::with_capacity(file.sentences.len());
+            for sentence in &file.sentences {
+                sentence.column(args.token_column)?;
+                let found = feature_column_indexes(sentence, &features, None)
+                    .map_err(|e| match e {
+                        TaggerError::FeatureColumn {
+                            path,
+                            line,
+                            column,
+                            name,
+                            width,
+                        } => anyhow::anyhow!(
+                            "{}:{line}: the model {} reads column {column} \
+                             ({name}) as a feature, but the row has {width} \
+                             column{}",
+                            path.display(),
+                            args.model.display(),
+                            if width == 1 { "" } else { "s" }
+                        ),
+                        e => e.into(),
+                    })?;
+                wanted.push(found);
+            }
+            files.push((file, wanted));
+        }
+    }
+    let mut write = |out: &mut dyn Write| -> Result<()> {
+        if args.plain {
+            for input in &args.inputs {
                 tag_plain(&model, input, args.tokenize, &mut work, out)?;
-            } else {
-                let file = read_columns(input)?;
-                super::warn_mixed(&file, false);
-                for sentence in &file.sentences {
-                    let tokens = sentence.column(args.token_column)?;
-                    let labels = model.tag(&tokens, &mut work);
-                    for (row, label) in labels.iter().enumerate() {
-                        let cells: Vec<&str> = sentence.row(row).collect();
-                        writeln!(out, "{}\t{}", cells.join("\t"), label)?;
+            }
+        }
+        for (file, wanted) in &files {
+            for (sentence, wanted) in file.sentences.iter().zip(wanted) {
+                let tokens = sentence.column(args.token_column)?;
+                let columns: Vec<Vec<&str>> = wanted
+                    .iter()
+                    .map(|&col| {
+                        (0..sentence.len())
+                            .map(|row| sentence.cell(row, col))
+                            .collect()
+                    })
+                    .collect();
+                let columns: Vec<&[&str]> =
+                    columns.iter().map(Vec::as_slice).collect();
+                let labels = model.tag_with(&tokens, &columns, &mut work);
+                for (row, label) in labels.iter().enumerate() {
+                    for cell in sentence.row(row) {
+                        out.write_all(cell.as_bytes())?;
+                        out.write_all(b"\t")?;
                     }
-                    writeln!(out)?;
+                    out.write_all(label.as_bytes())?;
+                    out.write_all(b"\n")?;
                 }
+                writeln!(out)?;
             }
         }
         Ok(())
@@ -98,6 +158,11 @@ pub fn run(args: Args) -> Result<()> {
             file.commit()?;
         }
     }
+    // The model and its caches can be large (millions of feature
+    // strings); the process ends here, so leave them to the operating
+    // system instead of freeing them one by one.
+    std::mem::forget(work);
+    std::mem::forget(model);
     Ok(())
 }
 

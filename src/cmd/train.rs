@@ -10,10 +10,10 @@ use lexiclade::{
     progress::Bars,
     VERSION,
 };
-use lexiclade_features::{FeatureConfig, Paths};
+use lexiclade_features::FeatureConfig;
 use lexiclade_tagger::{
     columns::{Column, ColumnSpec},
-    pipeline::{TaggerModel, TrainParams},
+    pipeline::{column_names, TaggerModel, TrainParams},
     scheme::Scheme,
 };
 
@@ -47,11 +47,15 @@ pub struct Args {
     #[arg(long, value_name = "M")]
     model: PathBuf,
     /// A cluster directory written by `lexiclade cluster`: adds path
-    /// prefix features as the config asks.
-    #[arg(long, value_name = "DIR")]
-    clusters: Option<PathBuf>,
+    /// prefix features as the config's [clusters] asks. Repeat as
+    /// --clusters NAME=DIR for each of the config's [[cluster_sets]].
+    #[arg(long, value_name = "[NAME=]DIR")]
+    clusters: Vec<PathBuf>,
     /// The feature config (TOML, see configs/). Default: the built-in
-    /// defaults, which equal configs/ner.toml.
+    /// defaults, which equal configs/ner.toml. Its [[columns]] read
+    /// further input columns (a POS tag, say) of --train and --dev,
+    /// numbered as --token-column; the model records them, and `tag`
+    /// then needs them in its input.
     #[arg(long, value_name = "C")]
     config: Option<PathBuf>,
     /// Passes over the training sentences (with --dev: the most tried).
@@ -112,7 +116,8 @@ pub fn run(args: Args) -> Result<()> {
     let mut inputs = vec![args.train.clone()];
     inputs.extend(args.dev.iter().cloned());
     inputs.extend(args.config.iter().cloned());
-    inputs.extend(args.clusters.iter().cloned());
+    let dirs = super::ClusterDirs::parse(&args.clusters)?;
+    inputs.extend(dirs.all());
     lexiclade::atomic::refuse_overlap(&inputs, &args.model)?;
     // Created before the training, so that the commit can tell whether
     // something appeared at (or changed under) M meanwhile.
@@ -128,29 +133,24 @@ pub fn run(args: Args) -> Result<()> {
         None => "default config".into(),
     };
     let config = config.check().with_context(|| config_name.clone())?;
-    if config.clusters.enabled == Some(true) && args.clusters.is_none() {
-        bail!(
-            "{config_name}: sets clusters.enabled = true, so --clusters DIR \
-             is needed (the -no-clusters configs are the baselines without \
-             clusters)"
-        );
-    }
-    let paths = args.clusters.as_deref().map(Paths::read).transpose()?;
-    if paths.is_some() && config.clusters.enabled == Some(false) && !args.quiet
-    {
-        eprintln!("lexiclade: notice: the config turns cluster features off; --clusters is unused");
-    }
+    let quiet = args.quiet;
+    let extractor = dirs.extractor(config, &config_name, &mut |notice| {
+        if !quiet {
+            eprintln!("lexiclade: notice: {notice}");
+        }
+    })?;
     if args.refit && args.dev.is_none() {
         bail!(
             "--refit needs --dev: the epoch count to refit with is chosen \
              on the development file"
         );
     }
-    let train = LabeledFile::read(&args.train, &spec)?;
+    let features = column_names(&extractor);
+    let train = LabeledFile::read(&args.train, &spec, &features)?;
     let dev = args
         .dev
         .as_deref()
-        .map(|d| LabeledFile::read(d, &spec))
+        .map(|d| LabeledFile::read(d, &spec, &features))
         .transpose()?;
     let others: Vec<&LabeledFile> = dev.iter().collect();
     let choice = choose_scheme(args.scheme, &train, &others)?;
@@ -175,13 +175,12 @@ pub fn run(args: Args) -> Result<()> {
     };
     let bars = Bars::new(args.quiet);
     let bar = bars.steps("epoch 1", train.len() as u64, "sentences");
-    let (quiet, epochs, refit) = (args.quiet, args.epochs, args.refit);
+    let (epochs, refit) = (args.epochs, args.refit);
     let mut best_dev: Option<f64> = None;
     let mut model = TaggerModel::train(
         &train,
         dev.as_deref(),
-        config,
-        paths,
+        extractor,
         &params,
         &mut |done, _| bar.set_position(done as u64),
         &mut |report| {

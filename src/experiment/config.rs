@@ -3,6 +3,7 @@
 //! the seeds and the epochs. Unknown keys are an error. Relative paths
 //! are relative to the config file's directory.
 
+use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 use anyhow::{bail, Context, Result};
@@ -17,6 +18,11 @@ pub struct Experiment {
     /// The clusters the feature sets use.
     #[serde(default)]
     pub clusters: Option<Clusters>,
+    /// Cluster directories by the name of a feature config's
+    /// `[[cluster_sets]]` entry, for every feature set whose config has
+    /// that set (`[cluster_sets]`, `lower = "dir"`). Default: none.
+    #[serde(default)]
+    pub cluster_sets: BTreeMap<String, PathBuf>,
     /// The feature sets to compare; the first is the baseline unless
     /// `training.baseline` names another.
     pub features: Vec<FeatureSet>,
@@ -112,6 +118,10 @@ pub struct FeatureSet {
     /// corpora, with and without exchange) under the same subsets.
     #[serde(default)]
     pub clusters: Option<PathBuf>,
+    /// Cluster directories by set name for this feature set, added to
+    /// (and replacing) the experiment's `cluster_sets`.
+    #[serde(default)]
+    pub cluster_sets: BTreeMap<String, PathBuf>,
 }
 
 /// Sizes, seeds, epochs and the test.
@@ -222,11 +232,13 @@ impl Experiment {
             }
             c.raw.iter_mut().for_each(fix);
         }
+        self.cluster_sets.values_mut().for_each(fix);
         for f in &mut self.features {
             fix(&mut f.config);
             if let Some(d) = &mut f.clusters {
                 fix(d);
             }
+            f.cluster_sets.values_mut().for_each(fix);
         }
     }
 

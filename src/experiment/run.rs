@@ -8,6 +8,7 @@
 //! function of its combination, so the results (all but the timings) do
 //! not depend on the number of threads or the order runs finish in.
 
+use std::borrow::Cow;
 use std::collections::HashSet;
 use std::time::Instant;
 
@@ -16,7 +17,7 @@ use lexiclade_cluster::{
     cluster, cluster_refined, expand_inputs, ClusterOutput, ClusterParams,
     Counts, ExchangeParams, TokenOptions,
 };
-use lexiclade_features::{FeatureConfig, Paths};
+use lexiclade_features::{Extractor, FeatureConfig, Paths};
 use lexiclade_tagger::{
     columns::{Column, ColumnSpec},
     eval::Evaluator,
@@ -47,6 +48,13 @@ pub struct Prepared {
     pub paths: Vec<Option<Paths>>,
     /// Feature configs, one per feature set, with overrides applied.
     pub configs: Vec<FeatureConfig>,
+    /// The clusters of named cluster sets per feature set: those its
+    /// config has and the experiment or the feature set gives.
+    pub sets: Vec<Vec<(String, Paths)>>,
+    /// Per feature set, the index in every sentence's `columns` of each
+    /// input column its config reads (sentences hold the union of the
+    /// columns of every feature set).
+    pub column_maps: Vec<Vec<usize>>,
 }
 
 /// One combination and what it gave.
@@ -91,9 +99,46 @@ pub fn prepare(
         label: Column::new(exp.data.label_column)
             .context("data.label_column is 0")?,
     };
-    let train = LabeledFile::read(&exp.data.train, &spec)?;
-    let dev = LabeledFile::read(&exp.data.dev, &spec)?;
-    let test = LabeledFile::read(&exp.data.test, &spec)?;
+    let configs = exp
+        .features
+        .iter()
+        .map(|f| {
+            let mut config = FeatureConfig::read(&f.config)?;
+            if let Some(p) = &f.prefixes {
+                config.clusters.prefix_lengths = p.clone();
+            }
+            if let Some(w) = f.whole_path {
+                config.clusters.whole_path = w;
+            }
+            config
+                .clone()
+                .check()
+                .with_context(|| format!("feature set {:?}", f.name))?;
+            Ok(config)
+        })
+        .collect::<Result<Vec<_>>>()?;
+    // The union of the input columns every feature set reads.
+    let mut union: Vec<(i64, &str)> = Vec::new();
+    let column_maps: Vec<Vec<usize>> = configs
+        .iter()
+        .map(|c| {
+            c.columns
+                .iter()
+                .map(|col| {
+                    match union.iter().position(|u| u.0 == col.column) {
+                        Some(k) => k,
+                        None => {
+                            union.push((col.column, col.name.as_str()));
+                            union.len() - 1
+                        }
+                    }
+                })
+                .collect()
+        })
+        .collect();
+    let train = LabeledFile::read(&exp.data.train, &spec, &union)?;
+    let dev = LabeledFile::read(&exp.data.dev, &spec, &union)?;
+    let test = LabeledFile::read(&exp.data.test, &spec, &union)?;
     for mixed in [&train, &dev, &test].iter().filter_map(|f| f.mixed.as_ref())
     {
         notice(&format!("warning: {mixed}"));
@@ -156,24 +201,6 @@ pub fn prepare(
             }
         }),
     };
-    let configs = exp
-        .features
-        .iter()
-        .map(|f| {
-            let mut config = FeatureConfig::read(&f.config)?;
-            if let Some(p) = &f.prefixes {
-                config.clusters.prefix_lengths = p.clone();
-            }
-            if let Some(w) = f.whole_path {
-                config.clusters.whole_path = w;
-            }
-            config
-                .clone()
-                .check()
-                .with_context(|| format!("feature set {:?}", f.name))?;
-            Ok(config)
-        })
-        .collect::<Result<Vec<_>>>()?;
     let paths = exp
         .features
         .iter()
@@ -197,7 +224,40 @@ pub fn prepare(
             );
         }
     }
-    Ok(Prepared { train, dev, test, scheme, paths, configs })
+    let mut read_sets: Vec<(std::path::PathBuf, Paths)> = Vec::new();
+    let mut sets = Vec::new();
+    for (f, config) in exp.features.iter().zip(&configs) {
+        let mut mine = Vec::new();
+        for set in &config.cluster_sets {
+            let dir = f
+                .cluster_sets
+                .get(&set.name)
+                .or_else(|| exp.cluster_sets.get(&set.name));
+            let Some(dir) = dir else { continue };
+            let p = match read_sets.iter().find(|(d, _)| d == dir) {
+                Some((_, p)) => p.clone(),
+                None => {
+                    let p = Paths::read(dir).with_context(|| {
+                        format!("feature set {:?}", f.name)
+                    })?;
+                    read_sets.push((dir.clone(), p.clone()));
+                    p
+                }
+            };
+            mine.push((set.name.clone(), p));
+        }
+        sets.push(mine);
+    }
+    Ok(Prepared {
+        train,
+        dev,
+        test,
+        scheme,
+        paths,
+        configs,
+        sets,
+        column_maps,
+    })
 }
 
 fn display(paths: &[std::path::PathBuf]) -> String {
@@ -297,17 +357,40 @@ fn run_one(exp: &Experiment, data: &Prepared, c: Combination) -> RunResult {
     result
 }
 
-fn run_into(
+fn run_into<'a>(
     exp: &Experiment,
-    data: &Prepared,
+    data: &'a Prepared,
     c: Combination,
     out: &mut RunResult,
 ) -> Result<()> {
-    let train = subset(&data.train, c.size, c.seed);
+    let map = &data.column_maps[c.features];
+    let own_columns = |s: &mut Labeled| {
+        s.columns = map.iter().map(|&k| s.columns[k].clone()).collect();
+    };
+    // The sentences as they are when they hold just this set's columns.
+    let width = data.train.first().map_or(0, |s| s.columns.len());
+    let same = map.iter().copied().eq(0..width);
+    let own = |sentences: &'a [Labeled]| -> Cow<'a, [Labeled]> {
+        if same {
+            Cow::Borrowed(sentences)
+        } else {
+            let mut mine = sentences.to_vec();
+            mine.iter_mut().for_each(own_columns);
+            Cow::Owned(mine)
+        }
+    };
+    let mut train = subset(&data.train, c.size, c.seed);
+    if !same {
+        train.iter_mut().for_each(own_columns);
+    }
+    let dev = own(&data.dev);
+    let test = own(&data.test);
     let config = data.configs[c.features].clone().check()?;
     let uses_clusters = config.clusters.enabled != Some(false);
     let paths =
         if uses_clusters { data.paths[c.features].clone() } else { None };
+    let extractor =
+        Extractor::with_sets(config, paths, data.sets[c.features].clone())?;
     let params = TrainParams {
         epochs: exp.training.epochs,
         seed: c.seed,
@@ -319,9 +402,8 @@ fn run_into(
     let mut dev_best = 0.0f64;
     let model = TaggerModel::train(
         &train,
-        Some(&data.dev),
-        config,
-        paths,
+        Some(&dev),
+        extractor,
         &params,
         &mut |_, _| {},
         &mut |r| dev_best = dev_best.max(r.dev_score.unwrap_or(0.0)),
@@ -345,8 +427,9 @@ fn run_into(
         evaluator = evaluator.clustered_words(&has_path);
     }
     let mut work = TagBuffers::default();
-    for s in &data.test {
-        let predicted = model.tag(&s.tokens, &mut work);
+    for s in test.iter() {
+        let columns = s.column_slices();
+        let predicted = model.tag_with(&s.tokens, &columns, &mut work);
         evaluator.add(&s.tokens, &s.labels, &predicted)?;
         out.sentences.push(sentence_counts(
             data.scheme,

@@ -77,6 +77,30 @@ pub enum Error {
         /// The number of columns of the row.
         width: usize,
     },
+    /// A row lacks an input column that the features read.
+    FeatureColumn {
+        /// The file concerned.
+        path: PathBuf,
+        /// The 1-based line number of the row.
+        line: u64,
+        /// The column, as the feature config names it.
+        column: isize,
+        /// The name of the `[[columns]]` entry that reads it.
+        name: String,
+        /// The number of columns the row has.
+        width: usize,
+    },
+    /// A feature config reads the label column as a feature.
+    LabelAsFeature {
+        /// The file concerned.
+        path: PathBuf,
+        /// The 1-based line number of the row.
+        line: u64,
+        /// The column, as the feature config names it.
+        column: isize,
+        /// The name of the `[[columns]]` entry that reads it.
+        name: String,
+    },
     /// A column file holds no token row at all.
     Empty {
         /// The file concerned.
@@ -205,6 +229,28 @@ impl fmt::Display for Error {
                     width
                 )
             }
+            Error::FeatureColumn { path, line, column, name, width } => {
+                write!(
+                    f,
+                    "{}:{}: the features read column {} ({}), but the row \
+                     has {} column{}",
+                    path.display(),
+                    line,
+                    column,
+                    name,
+                    width,
+                    plural(*width)
+                )
+            }
+            Error::LabelAsFeature { path, line, column, name } => write!(
+                f,
+                "{}:{}: column {} is the label column here; the features \
+                 may not read it ({})",
+                path.display(),
+                line,
+                column,
+                name
+            ),
             Error::Empty { path } => {
                 write!(f, "{}: no token rows", path.display())
             }

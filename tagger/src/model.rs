@@ -25,9 +25,11 @@ use crate::error::{Error, Result};
 /// The magic bytes that open every model file.
 pub const MAGIC: &[u8; 8] = b"LXCLTAGR";
 
-/// The version of the model format this build writes and reads: 2 since
-/// the cluster paths record NFC normalisation.
-pub const FORMAT_VERSION: u32 = 2;
+/// The version of the model format this build writes and reads.
+/// Version 2 recorded NFC normalisation of the cluster paths; version 3
+/// added the input columns, conjunctions and further cluster sets of the
+/// feature config. Older files are refused.
+pub const FORMAT_VERSION: u32 = 3;
 
 const HEADER: usize = 8 + 4 + 8 + 4;
 
@@ -144,7 +146,8 @@ mod tests {
         other[8] = 9;
         let m = msg(&other);
         assert!(
-            m.contains("version 9") && m.contains("reads version 2"),
+            m.contains("version 9")
+                && m.contains(&format!("reads version {FORMAT_VERSION}")),
             "{m}"
         );
         let mut longer = bytes;

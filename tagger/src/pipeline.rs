@@ -7,13 +7,15 @@ use std::path::Path;
 use std::time::Instant;
 
 use lexiclade_features::{
-    CheckedConfig, Extractor, FeatureIds, FeatureIndex, IdCache, Paths,
+    Extractor, FeatureIds, FeatureIndex, FeatureIndexBuilder, Features,
+    IdCache,
 };
 use rand::seq::SliceRandom;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use serde::{Deserialize, Serialize};
 
+use crate::columns::{Column, ColumnSpec, Sentence};
 use crate::error::{Error, Result};
 use crate::eval::Evaluator;
 use crate::model;
@@ -22,13 +24,116 @@ use crate::perceptron::{
 };
 use crate::scheme::{self, Scheme};
 
-/// A labeled sentence: tokens and their labels.
+/// A labeled sentence: tokens, their labels and the input columns the
+/// features read.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Labeled {
     /// The tokens.
     pub tokens: Vec<String>,
     /// One label per token.
     pub labels: Vec<String>,
+    /// The values of each input column the features read, in the order
+    /// of [`Extractor::columns`], one per token; empty when they read
+    /// none.
+    pub columns: Vec<Vec<String>>,
+}
+
+impl Labeled {
+    /// The sentence's tokens, labels and the values of the feature
+    /// columns `features` (as [`Extractor::columns`] gives them, with
+    /// the names of their `[[columns]]` entries).
+    ///
+    /// # Errors
+    ///
+    /// [`Error::NoColumn`] when a row lacks the token or label column,
+    /// [`Error::SameColumn`] when they are one column of its rows,
+    /// [`Error::FeatureColumn`] when it lacks a feature column and
+    /// [`Error::LabelAsFeature`] when a feature column is the label
+    /// column.
+    pub fn read(
+        sentence: &Sentence,
+        spec: &ColumnSpec,
+        features: &[(i64, &str)],
+    ) -> Result<Labeled> {
+        let (tokens, labels) = sentence.labeled(spec)?;
+        let tokens = tokens.into_iter().map(String::from);
+        let labels = labels.into_iter().map(String::from);
+        let label = spec.label.resolve(sentence.width());
+        let columns = feature_columns(sentence, features, label)?;
+        Ok(Labeled {
+            tokens: tokens.collect(),
+            labels: labels.collect(),
+            columns,
+        })
+    }
+
+    /// The feature columns as the extractor takes them.
+    pub fn column_slices(&self) -> Vec<&[String]> {
+        self.columns.iter().map(Vec::as_slice).collect()
+    }
+}
+
+/// The values of the feature columns `features` (column and entry name)
+/// of `sentence`, one list per column; `label` is the 0-based label
+/// column, which no feature may read.
+///
+/// # Errors
+///
+/// [`Error::FeatureColumn`] when a row lacks a column,
+/// [`Error::LabelAsFeature`] when one is the label column.
+pub fn feature_columns(
+    sentence: &Sentence,
+    features: &[(i64, &str)],
+    label: Option<usize>,
+) -> Result<Vec<Vec<String>>> {
+    Ok(feature_column_indexes(sentence, features, label)?
+        .into_iter()
+        .map(|col| {
+            (0..sentence.len())
+                .map(|row| sentence.cell(row, col).to_string())
+                .collect()
+        })
+        .collect())
+}
+
+/// [`feature_columns`], giving the 0-based position of each column in
+/// the sentence's rows instead of the values.
+///
+/// # Errors
+///
+/// As [`feature_columns`].
+pub fn feature_column_indexes(
+    sentence: &Sentence,
+    features: &[(i64, &str)],
+    label: Option<usize>,
+) -> Result<Vec<usize>> {
+    let width = sentence.width();
+    let line = sentence.lines()[0];
+    features
+        .iter()
+        .map(|&(column, name)| {
+            let index = column as isize;
+            let resolved = Column::new(index).and_then(|c| c.resolve(width));
+            let Some(col) = resolved else {
+                return Err(Error::FeatureColumn {
+                    path: sentence.path().to_path_buf(),
+                    line,
+                    column: index,
+                    name: name.to_string(),
+                    width,
+                });
+            };
+            if Some(col) == label {
+                return Err(Error::LabelAsFeature {
+                    path: sentence.path().to_path_buf(),
+                    line,
+                    column: index,
+                    name: name.to_string(),
+                });
+            }
+            Ok(col)
+        })
+        .collect()
 }
 
 /// Training settings.
@@ -119,11 +224,12 @@ pub struct TaggerModel {
 }
 
 impl TaggerModel {
-    /// Trains on `train`, picking the epoch that scores best on `dev`
-    /// (the last epoch without it). With [`TrainParams::refit`], then
-    /// trains afresh on `train` followed by `dev` for the chosen number
-    /// of epochs; the model's [`best_epoch`](TaggerModel::best_epoch) is
-    /// that number either way.
+    /// Trains on `train` with the features of `extractor`, picking the
+    /// epoch that scores best on `dev` (the last epoch without it). Every
+    /// sentence must hold the columns the extractor reads. With
+    /// [`TrainParams::refit`], then trains afresh on `train` followed by
+    /// `dev` for the chosen number of epochs; the model's
+    /// [`best_epoch`](TaggerModel::best_epoch) is that number either way.
     ///
     /// The refit starts from nothing (features, labels, tag dictionary
     /// and weights are all rebuilt from the joined sentences) with the
@@ -135,15 +241,14 @@ impl TaggerModel {
     pub fn train(
         train: &[Labeled],
         dev: Option<&[Labeled]>,
-        config: CheckedConfig,
-        paths: Option<Paths>,
+        extractor: Extractor,
         params: &TrainParams,
         progress: Progress,
         epoch_done: &mut dyn FnMut(&EpochReport),
     ) -> Result<TaggerModel> {
         if !params.refit {
             return Self::train_once(
-                train, dev, config, paths, params, false, progress, epoch_done,
+                train, dev, extractor, params, false, progress, epoch_done,
             );
         }
         let Some(dev) = dev else {
@@ -157,8 +262,7 @@ impl TaggerModel {
         let chosen = Self::train_once(
             train,
             Some(dev),
-            config.clone(),
-            paths.clone(),
+            extractor.clone(),
             params,
             false,
             progress,
@@ -169,7 +273,7 @@ impl TaggerModel {
         let again =
             TrainParams { epochs: chosen, refit: false, ..params.clone() };
         Self::train_once(
-            &joined, None, config, paths, &again, true, progress, epoch_done,
+            &joined, None, extractor, &again, true, progress, epoch_done,
         )
     }
 
@@ -178,8 +282,7 @@ impl TaggerModel {
     fn train_once(
         train: &[Labeled],
         dev: Option<&[Labeled]>,
-        config: CheckedConfig,
-        paths: Option<Paths>,
+        extractor: Extractor,
         params: &TrainParams,
         refit: bool,
         progress: Progress,
@@ -200,17 +303,29 @@ impl TaggerModel {
         let scheme = params.scheme.unwrap_or_else(|| {
             Scheme::detect(train.iter().map(|s| &s.labels))
         });
-        let internal = if config.iobes && scheme.has_chunks() {
+        let internal = if extractor.config().iobes && scheme.has_chunks() {
             Scheme::Iobes
         } else {
             scheme
         };
-        let extractor =
-            Extractor::new(config, paths).map_err(features_error)?;
-        let features = FeatureIndex::from_sentences(
-            &extractor,
-            train.iter().map(|s| &s.tokens),
-        );
+        let wanted = extractor.columns().len();
+        let short = train.iter().chain(dev.into_iter().flatten());
+        if short.clone().any(|s| s.columns.len() < wanted) {
+            return Err(Error::InvalidParam {
+                name: "train",
+                reason: format!(
+                    "the features read {wanted} input columns, but a \
+                     sentence holds fewer"
+                ),
+            });
+        }
+        let mut builder = FeatureIndexBuilder::new();
+        let mut buf = Features::new();
+        for s in train {
+            extractor.extract_with(&s.tokens, &s.column_slices(), &mut buf);
+            builder.add(&buf);
+        }
+        let features = builder.build(extractor.config().min_count);
 
         // Labels in the decoder's scheme, numbered in sorted order.
         let converted: Vec<Vec<String>> = train
@@ -255,7 +370,9 @@ impl TaggerModel {
             .iter()
             .zip(gold)
             .map(|(s, gold)| {
-                let mut x = model.instance(&s.tokens, &mut ids, None);
+                let columns = s.column_slices();
+                let mut x =
+                    model.instance(&s.tokens, &columns, &mut ids, None);
                 x.labels = gold;
                 x
             })
@@ -309,6 +426,7 @@ impl TaggerModel {
     fn instance<S: AsRef<str>>(
         &self,
         tokens: &[S],
+        columns: &[&[S]],
         ids: &mut FeatureIds,
         cache: Option<&mut IdCache>,
     ) -> Instance {
@@ -316,10 +434,16 @@ impl TaggerModel {
             Some(cache) => self.extractor.extract_ids_cached(
                 &self.features,
                 tokens,
+                columns,
                 ids,
                 cache,
             ),
-            None => self.extractor.extract_ids(&self.features, tokens, ids),
+            None => self.extractor.extract_ids(
+                &self.features,
+                tokens,
+                columns,
+                ids,
+            ),
         }
         let starts = ids.starts().iter().map(|&s| s as u32).collect();
         let candidates = if self.dictionary.is_empty() {
@@ -344,15 +468,42 @@ impl TaggerModel {
     }
 
     /// Tags one sentence; labels come in the training data's scheme.
+    ///
+    /// # Panics
+    ///
+    /// If the model reads input columns ([`TaggerModel::columns`]): use
+    /// [`TaggerModel::tag_with`].
     pub fn tag<S: AsRef<str>>(
         &self,
         tokens: &[S],
         work: &mut TagBuffers,
     ) -> Vec<String> {
+        self.tag_with(tokens, &[], work)
+    }
+
+    /// [`TaggerModel::tag`] for a sentence with the input columns the
+    /// model reads: `columns[k]` holds the values of the column
+    /// [`TaggerModel::columns`] lists `k`th.
+    ///
+    /// # Panics
+    ///
+    /// If `columns` lacks a column the model reads or a list is not as
+    /// long as `tokens`.
+    pub fn tag_with<S: AsRef<str>>(
+        &self,
+        tokens: &[S],
+        columns: &[&[S]],
+        work: &mut TagBuffers,
+    ) -> Vec<String> {
         if tokens.is_empty() {
             return Vec::new();
         }
-        let x = self.instance(tokens, &mut work.ids, Some(&mut work.cache));
+        let x = self.instance(
+            tokens,
+            columns,
+            &mut work.ids,
+            Some(&mut work.cache),
+        );
         let ids = self.weights.decode(
             &x,
             &self.rules,
@@ -370,7 +521,8 @@ impl TaggerModel {
         let mut evaluator = Evaluator::new(self.scheme);
         let mut work = TagBuffers::default();
         for s in sentences {
-            let predicted = self.tag(&s.tokens, &mut work);
+            let columns = s.column_slices();
+            let predicted = self.tag_with(&s.tokens, &columns, &mut work);
             evaluator.add_labels(&s.labels, &predicted)?;
         }
         let report = evaluator.report();
@@ -378,6 +530,13 @@ impl TaggerModel {
             Some(overall) => overall.f1,
             None => report.token_accuracy,
         })
+    }
+
+    /// The input columns the features read, as the feature config names
+    /// them (1-based, negative from the end), with the names of their
+    /// `[[columns]]` entries; empty when they read only the tokens.
+    pub fn columns(&self) -> Vec<(i64, &str)> {
+        column_names(&self.extractor)
     }
 
     /// Writes the model to `path` (atomically).
@@ -480,8 +639,15 @@ fn tag_dictionary(
     (dictionary, lists)
 }
 
-fn features_error(e: lexiclade_features::Error) -> Error {
-    Error::InvalidParam { name: "features", reason: e.to_string() }
+/// The input columns `extractor` reads, with the names of their
+/// `[[columns]]` entries, as [`Labeled::read`] takes them.
+pub fn column_names(extractor: &Extractor) -> Vec<(i64, &str)> {
+    extractor
+        .config()
+        .columns
+        .iter()
+        .map(|c| (c.column, c.name.as_str()))
+        .collect()
 }
 
 #[cfg(test)]
@@ -503,7 +669,7 @@ mod tests {
                     ["O", "B-PER", "O", "B-LOC", "O", "O"]
                         .map(String::from)
                         .into();
-                Labeled { tokens, labels }
+                Labeled { tokens, labels, columns: Vec::new() }
             })
             .collect()
     }
@@ -518,8 +684,7 @@ mod tests {
         TaggerModel::train(
             &data(),
             None,
-            config,
-            None,
+            Extractor::new(config, None).unwrap(),
             &params,
             &mut |_, _| {},
             &mut |_| {},
@@ -600,7 +765,7 @@ mod tests {
                         }
                     })
                     .collect();
-                Labeled { tokens, labels }
+                Labeled { tokens, labels, columns: Vec::new() }
             })
             .collect()
     }
@@ -611,11 +776,11 @@ mod tests {
         params: &TrainParams,
         reports: &mut Vec<EpochReport>,
     ) -> Result<TaggerModel> {
+        let config = FeatureConfig::default().check().unwrap();
         TaggerModel::train(
             train,
             dev,
-            FeatureConfig::default().check().unwrap(),
-            None,
+            Extractor::new(config, None).unwrap(),
             params,
             &mut |_, _| {},
             &mut |r| reports.push(r.clone()),
