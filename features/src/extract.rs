@@ -402,7 +402,19 @@ impl Extractor {
         let extra = self.has_extras();
         if extra {
             self.check_columns(tokens.len(), columns);
-            self.lookup_paths(tokens, &mut out.scratch);
+            // The paths of `[clusters]` come from the word cache; those
+            // of further sets are looked up.
+            let s = &mut out.scratch;
+            s.path_ids.clear();
+            if self.paths.is_some() {
+                s.path_ids.extend(
+                    cache
+                        .sentence
+                        .iter()
+                        .map(|&k| cache.entries[k as usize].path_id),
+                );
+            }
+            self.lookup_set_paths(tokens, s);
             if cache.codes.len() > IdCache::LIMIT
                 || cache.templates.len() > 8 * IdCache::LIMIT
             {
@@ -596,9 +608,11 @@ impl Extractor {
             })
             .collect();
         let mut path_feats = Vec::new();
+        let mut path_id = None;
         if let Some(paths) = &self.paths {
             let c = &self.config.get().clusters;
             let id = paths.id_with(word, &mut scratch.key);
+            path_id = id;
             for &off in window {
                 let mut ids = Vec::new();
                 match id {
@@ -632,7 +646,7 @@ impl Extractor {
                 path_feats.push(ids);
             }
         }
-        WordIds { local, neighbour, path: path_feats }
+        WordIds { local, neighbour, path: path_feats, path_id }
     }
 
     /// Calls `sink(token_index, feature)` for every feature of every
@@ -661,6 +675,12 @@ impl Extractor {
                 s.path_ids.push(id);
             }
         }
+        self.lookup_set_paths(tokens, s);
+    }
+
+    /// Looks up the path of every token in every further cluster set
+    /// that is on.
+    fn lookup_set_paths<S: AsRef<str>>(&self, tokens: &[S], s: &mut Scratch) {
         s.set_ids.clear();
         for paths in self.sets.iter().flatten() {
             for t in tokens {
@@ -1132,6 +1152,8 @@ struct WordIds {
     local: Vec<u32>,
     neighbour: Vec<Option<u32>>,
     path: Vec<Vec<u32>>,
+    /// The word's path in `[clusters]`, if they are on and have it.
+    path_id: Option<u32>,
 }
 
 /// The token at offset `off` from `i` in a sentence of `n`, or the
