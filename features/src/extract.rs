@@ -364,6 +364,7 @@ impl Extractor {
             cache.words.clear();
             cache.entries.clear();
             cache.templates.clear();
+            cache.small_templates.clear();
         }
         if cache.extras.len() > IdCache::LIMIT {
             cache.extras.clear();
@@ -420,6 +421,7 @@ impl Extractor {
             {
                 cache.codes.clear();
                 cache.templates.clear();
+                cache.small_templates.clear();
             }
             // A code for every column value (after the tokens' numbers).
             let IdCache { codes, sentence, .. } = &mut *cache;
@@ -512,7 +514,14 @@ impl Extractor {
                             }
                         }
                     }
-                    let id = match cache.templates.get(&(t as u32, key3)) {
+                    // Templates that read no word have few values: their
+                    // own small table stays in the processor's caches.
+                    let table = if e.small(&self.plan) {
+                        &mut cache.small_templates
+                    } else {
+                        &mut cache.templates
+                    };
+                    let id = match table.get(&(t as u32, key3)) {
                         Some(&id) => id,
                         None => {
                             let emits = self.write_extra(
@@ -520,7 +529,7 @@ impl Extractor {
                             );
                             let id =
                                 if emits { index.get(feature) } else { None };
-                            cache.templates.insert((t as u32, key3), id);
+                            table.insert((t as u32, key3), id);
                             id
                         }
                     };
@@ -1126,6 +1135,12 @@ pub struct IdCache {
     /// The id of each column or conjunction template (its number in the
     /// plan) for the codes of the values it joins.
     templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
+    /// The same for the templates that read no word (column windows and
+    /// n-grams, conjunctions of columns, shapes and paths): they recur
+    /// on every few tokens, and apart from the word templates' many
+    /// entries their table stays small enough for the processor's
+    /// caches.
+    small_templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
     /// The codes of the current sentence: its tokens' numbers in
     /// `entries`, then the codes of each column's values.
     sentence: Vec<u32>,
@@ -2149,6 +2164,69 @@ mod tests {
                 }
             }
         }
+    }
+
+    /// The cached ids (word cache, path ids taken from it, the template
+    /// tables of word and of non-word templates) equal the ids of the
+    /// plain string path, token by token, on random sentences with the
+    /// shipped chunking config, for words and tag sequences seen and
+    /// unseen in the index.
+    #[test]
+    fn cached_ids_equal_plain_ids_on_random_sentences() {
+        use rand::{Rng, SeedableRng};
+        let toml = include_str!("../../configs/chunk.toml");
+        let c = FeatureConfig::from_toml(toml).unwrap().check().unwrap();
+        let e = Extractor::new(c, Some(paths(true))).unwrap();
+        let vocabulary = [
+            "the", "The", "cat", "sat", "é", "zebra", "a|b", "x\\y", "on", ".",
+        ];
+        let tagset = ["DT", "NN", "V|B", "IN", "\\", "."];
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        let sentences: Vec<(Vec<&str>, Vec<&str>)> = (0..300)
+            .map(|_| {
+                let n = rng.random_range(1..9);
+                let words = (0..n)
+                    .map(|_| vocabulary[rng.random_range(0..vocabulary.len())])
+                    .collect();
+                let tags = (0..n)
+                    .map(|_| tagset[rng.random_range(0..tagset.len())])
+                    .collect();
+                (words, tags)
+            })
+            .collect();
+        let mut builder = crate::FeatureIndexBuilder::new();
+        let mut buf = Features::new();
+        for (tokens, tags) in &sentences[..40] {
+            e.extract_with(tokens, &[tags], &mut buf);
+            builder.add(&buf);
+        }
+        let index = builder.build(1);
+        let mut cache = IdCache::new();
+        let (mut plain, mut cached) = (FeatureIds::new(), FeatureIds::new());
+        let mut found = 0;
+        for (round, (tokens, tags)) in
+            sentences.iter().chain(&sentences).enumerate()
+        {
+            e.extract_ids(&index, tokens, &[tags], &mut plain);
+            e.extract_ids_cached(
+                &index,
+                tokens,
+                &[tags],
+                &mut cached,
+                &mut cache,
+            );
+            assert_eq!(plain.len(), cached.len());
+            for i in 0..tokens.len() {
+                let mut a = plain.token(i).to_vec();
+                let mut b = cached.token(i).to_vec();
+                a.sort_unstable();
+                b.sort_unstable();
+                assert_eq!(a, b, "{tokens:?} {tags:?} token {i}, {round}");
+                found += a.len();
+            }
+        }
+        // The sentences do reach the index's features.
+        assert!(found > 10 * sentences.len(), "{found}");
     }
 
     #[test]
