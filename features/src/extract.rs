@@ -346,7 +346,11 @@ impl Extractor {
     /// positions; their ids are cached by the template and the values it
     /// joins (each token's word and each column value get a number), so
     /// each distinct combination is built and looked up once. Those of
-    /// further cluster sets are cached by their strings.
+    /// further cluster sets are cached by their strings. A conjunction
+    /// that joins a word whose `w=` feature the index lacks is not
+    /// looked up at all: `index` must be one built from this extractor's
+    /// features (as a model's is), where such a word was never a
+    /// training token.
     ///
     /// # Panics
     ///
@@ -494,6 +498,7 @@ impl Extractor {
                 };
                 for (t, &e) in self.plan.extras.iter().enumerate() {
                     let mut key3 = [UNUSED_CODE; 3];
+                    let mut unseen = false;
                     match e {
                         Extra::Window { k, off } => key3[0] = at(off, Some(k)),
                         Extra::Gram { k, g } => {
@@ -511,8 +516,22 @@ impl Extractor {
                                     _ => None,
                                 };
                                 key3[x] = at(atom.offset, column);
+                                // A word the index has no `w=` feature
+                                // of was never a training token, so no
+                                // conjunction that joins it can be in
+                                // the index (its count is at most that
+                                // word's): skip the look-up.
+                                if matches!(atom.kind, AtomKind::Word) {
+                                    if let Ok(j) = position(i, atom.offset, n)
+                                    {
+                                        unseen |= !word(j).seen;
+                                    }
+                                }
                             }
                         }
+                    }
+                    if unseen {
+                        continue;
                     }
                     // Templates that read no word have few values: their
                     // own small table stays in the processor's caches.
@@ -589,6 +608,9 @@ impl Extractor {
         scratch: &mut Scratch,
     ) -> WordIds {
         let mut local = Vec::new();
+        // Without `lexical.word` nothing tells whether the word was a
+        // training token: count it as seen.
+        let mut seen = !self.config.get().lexical.word;
         // The word alone as a sentence: its features without brackets
         // are the ones that depend on it alone.
         let mut sink = |_: usize, feature: &str| {
@@ -597,9 +619,11 @@ impl Extractor {
                 || (feature.starts_with('p')
                     && feature[1..].starts_with(|c: char| c.is_ascii_digit()));
             if !contextual {
-                if let Some(id) = index.get(feature) {
-                    local.push(id);
+                let id = index.get(feature);
+                if feature.starts_with("w=") {
+                    seen |= id.is_some();
                 }
+                local.extend(id);
             }
         };
         let none: &[&[&str]] = &[];
@@ -655,7 +679,7 @@ impl Extractor {
                 path_feats.push(ids);
             }
         }
-        WordIds { local, neighbour, path: path_feats, path_id }
+        WordIds { local, neighbour, path: path_feats, path_id, seen }
     }
 
     /// Calls `sink(token_index, feature)` for every feature of every
@@ -1169,6 +1193,9 @@ struct WordIds {
     path: Vec<Vec<u32>>,
     /// The word's path in `[clusters]`, if they are on and have it.
     path_id: Option<u32>,
+    /// Whether the index has the word's `w=` feature, or
+    /// `lexical.word` is off.
+    seen: bool,
 }
 
 /// The token at offset `off` from `i` in a sentence of `n`, or the
@@ -2178,15 +2205,19 @@ mod tests {
         let c = FeatureConfig::from_toml(toml).unwrap().check().unwrap();
         let e = Extractor::new(c, Some(paths(true))).unwrap();
         let vocabulary = [
-            "the", "The", "cat", "sat", "é", "zebra", "a|b", "x\\y", "on", ".",
+            "the", "The", "cat", "sat", "é", "zebra", "a|b", "x\\y", "on",
+            ".", "gnu", "Q|r",
         ];
         let tagset = ["DT", "NN", "V|B", "IN", "\\", "."];
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        // The last two words only after the sentences of the index: words
+        // that were never training tokens.
         let sentences: Vec<(Vec<&str>, Vec<&str>)> = (0..300)
-            .map(|_| {
+            .map(|k| {
                 let n = rng.random_range(1..9);
+                let words = if k < 40 { 10 } else { 12 };
                 let words = (0..n)
-                    .map(|_| vocabulary[rng.random_range(0..vocabulary.len())])
+                    .map(|_| vocabulary[rng.random_range(0..words)])
                     .collect();
                 let tags = (0..n)
                     .map(|_| tagset[rng.random_range(0..tagset.len())])
