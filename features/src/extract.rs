@@ -346,7 +346,11 @@ impl Extractor {
     /// positions; their ids are cached by the template and the values it
     /// joins (each token's word and each column value get a number), so
     /// each distinct combination is built and looked up once. Those of
-    /// further cluster sets are cached by their strings.
+    /// further cluster sets are cached by their strings. A conjunction
+    /// that joins a word whose `w=` feature the index lacks is not
+    /// looked up at all: `index` must be one built from this extractor's
+    /// features (as a model's is), where such a word was never a
+    /// training token.
     ///
     /// # Panics
     ///
@@ -364,6 +368,7 @@ impl Extractor {
             cache.words.clear();
             cache.entries.clear();
             cache.templates.clear();
+            cache.small_templates.clear();
         }
         if cache.extras.len() > IdCache::LIMIT {
             cache.extras.clear();
@@ -402,12 +407,25 @@ impl Extractor {
         let extra = self.has_extras();
         if extra {
             self.check_columns(tokens.len(), columns);
-            self.lookup_paths(tokens, &mut out.scratch);
+            // The paths of `[clusters]` come from the word cache; those
+            // of further sets are looked up.
+            let s = &mut out.scratch;
+            s.path_ids.clear();
+            if self.paths.is_some() {
+                s.path_ids.extend(
+                    cache
+                        .sentence
+                        .iter()
+                        .map(|&k| cache.entries[k as usize].path_id),
+                );
+            }
+            self.lookup_set_paths(tokens, s);
             if cache.codes.len() > IdCache::LIMIT
                 || cache.templates.len() > 8 * IdCache::LIMIT
             {
                 cache.codes.clear();
                 cache.templates.clear();
+                cache.small_templates.clear();
             }
             // A code for every column value (after the tokens' numbers).
             let IdCache { codes, sentence, .. } = &mut *cache;
@@ -480,6 +498,7 @@ impl Extractor {
                 };
                 for (t, &e) in self.plan.extras.iter().enumerate() {
                     let mut key3 = [UNUSED_CODE; 3];
+                    let mut unseen = false;
                     match e {
                         Extra::Window { k, off } => key3[0] = at(off, Some(k)),
                         Extra::Gram { k, g } => {
@@ -497,10 +516,31 @@ impl Extractor {
                                     _ => None,
                                 };
                                 key3[x] = at(atom.offset, column);
+                                // A word the index has no `w=` feature
+                                // of was never a training token, so no
+                                // conjunction that joins it can be in
+                                // the index (its count is at most that
+                                // word's): skip the look-up.
+                                if matches!(atom.kind, AtomKind::Word) {
+                                    if let Ok(j) = position(i, atom.offset, n)
+                                    {
+                                        unseen |= !word(j).seen;
+                                    }
+                                }
                             }
                         }
                     }
-                    let id = match cache.templates.get(&(t as u32, key3)) {
+                    if unseen {
+                        continue;
+                    }
+                    // Templates that read no word have few values: their
+                    // own small table stays in the processor's caches.
+                    let table = if e.small(&self.plan) {
+                        &mut cache.small_templates
+                    } else {
+                        &mut cache.templates
+                    };
+                    let id = match table.get(&(t as u32, key3)) {
                         Some(&id) => id,
                         None => {
                             let emits = self.write_extra(
@@ -508,7 +548,7 @@ impl Extractor {
                             );
                             let id =
                                 if emits { index.get(feature) } else { None };
-                            cache.templates.insert((t as u32, key3), id);
+                            table.insert((t as u32, key3), id);
                             id
                         }
                     };
@@ -568,6 +608,9 @@ impl Extractor {
         scratch: &mut Scratch,
     ) -> WordIds {
         let mut local = Vec::new();
+        // Without `lexical.word` nothing tells whether the word was a
+        // training token: count it as seen.
+        let mut seen = !self.config.get().lexical.word;
         // The word alone as a sentence: its features without brackets
         // are the ones that depend on it alone.
         let mut sink = |_: usize, feature: &str| {
@@ -576,9 +619,11 @@ impl Extractor {
                 || (feature.starts_with('p')
                     && feature[1..].starts_with(|c: char| c.is_ascii_digit()));
             if !contextual {
-                if let Some(id) = index.get(feature) {
-                    local.push(id);
+                let id = index.get(feature);
+                if feature.starts_with("w=") {
+                    seen |= id.is_some();
                 }
+                local.extend(id);
             }
         };
         let none: &[&[&str]] = &[];
@@ -596,9 +641,11 @@ impl Extractor {
             })
             .collect();
         let mut path_feats = Vec::new();
+        let mut path_id = None;
         if let Some(paths) = &self.paths {
             let c = &self.config.get().clusters;
             let id = paths.id_with(word, &mut scratch.key);
+            path_id = id;
             for &off in window {
                 let mut ids = Vec::new();
                 match id {
@@ -632,7 +679,7 @@ impl Extractor {
                 path_feats.push(ids);
             }
         }
-        WordIds { local, neighbour, path: path_feats }
+        WordIds { local, neighbour, path: path_feats, path_id, seen }
     }
 
     /// Calls `sink(token_index, feature)` for every feature of every
@@ -661,6 +708,12 @@ impl Extractor {
                 s.path_ids.push(id);
             }
         }
+        self.lookup_set_paths(tokens, s);
+    }
+
+    /// Looks up the path of every token in every further cluster set
+    /// that is on.
+    fn lookup_set_paths<S: AsRef<str>>(&self, tokens: &[S], s: &mut Scratch) {
         s.set_ids.clear();
         for paths in self.sets.iter().flatten() {
             for t in tokens {
@@ -1106,6 +1159,12 @@ pub struct IdCache {
     /// The id of each column or conjunction template (its number in the
     /// plan) for the codes of the values it joins.
     templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
+    /// The same for the templates that read no word (column windows and
+    /// n-grams, conjunctions of columns, shapes and paths): they recur
+    /// on every few tokens, and apart from the word templates' many
+    /// entries their table stays small enough for the processor's
+    /// caches.
+    small_templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
     /// The codes of the current sentence: its tokens' numbers in
     /// `entries`, then the codes of each column's values.
     sentence: Vec<u32>,
@@ -1132,6 +1191,11 @@ struct WordIds {
     local: Vec<u32>,
     neighbour: Vec<Option<u32>>,
     path: Vec<Vec<u32>>,
+    /// The word's path in `[clusters]`, if they are on and have it.
+    path_id: Option<u32>,
+    /// Whether the index has the word's `w=` feature, or
+    /// `lexical.word` is off.
+    seen: bool,
 }
 
 /// The token at offset `off` from `i` in a sentence of `n`, or the
@@ -2127,6 +2191,73 @@ mod tests {
                 }
             }
         }
+    }
+
+    /// The cached ids (word cache, path ids taken from it, the template
+    /// tables of word and of non-word templates) equal the ids of the
+    /// plain string path, token by token, on random sentences with the
+    /// shipped chunking config, for words and tag sequences seen and
+    /// unseen in the index.
+    #[test]
+    fn cached_ids_equal_plain_ids_on_random_sentences() {
+        use rand::{Rng, SeedableRng};
+        let toml = include_str!("../../configs/chunk.toml");
+        let c = FeatureConfig::from_toml(toml).unwrap().check().unwrap();
+        let e = Extractor::new(c, Some(paths(true))).unwrap();
+        let vocabulary = [
+            "the", "The", "cat", "sat", "é", "zebra", "a|b", "x\\y", "on",
+            ".", "gnu", "Q|r",
+        ];
+        let tagset = ["DT", "NN", "V|B", "IN", "\\", "."];
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        // The last two words only after the sentences of the index: words
+        // that were never training tokens.
+        let sentences: Vec<(Vec<&str>, Vec<&str>)> = (0..300)
+            .map(|k| {
+                let n = rng.random_range(1..9);
+                let words = if k < 40 { 10 } else { 12 };
+                let words = (0..n)
+                    .map(|_| vocabulary[rng.random_range(0..words)])
+                    .collect();
+                let tags = (0..n)
+                    .map(|_| tagset[rng.random_range(0..tagset.len())])
+                    .collect();
+                (words, tags)
+            })
+            .collect();
+        let mut builder = crate::FeatureIndexBuilder::new();
+        let mut buf = Features::new();
+        for (tokens, tags) in &sentences[..40] {
+            e.extract_with(tokens, &[tags], &mut buf);
+            builder.add(&buf);
+        }
+        let index = builder.build(1);
+        let mut cache = IdCache::new();
+        let (mut plain, mut cached) = (FeatureIds::new(), FeatureIds::new());
+        let mut found = 0;
+        for (round, (tokens, tags)) in
+            sentences.iter().chain(&sentences).enumerate()
+        {
+            e.extract_ids(&index, tokens, &[tags], &mut plain);
+            e.extract_ids_cached(
+                &index,
+                tokens,
+                &[tags],
+                &mut cached,
+                &mut cache,
+            );
+            assert_eq!(plain.len(), cached.len());
+            for i in 0..tokens.len() {
+                let mut a = plain.token(i).to_vec();
+                let mut b = cached.token(i).to_vec();
+                a.sort_unstable();
+                b.sort_unstable();
+                assert_eq!(a, b, "{tokens:?} {tags:?} token {i}, {round}");
+                found += a.len();
+            }
+        }
+        // The sentences do reach the index's features.
+        assert!(found > 10 * sentences.len(), "{found}");
     }
 
     #[test]

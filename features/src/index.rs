@@ -8,12 +8,14 @@
 //! an id is skipped.
 //!
 //! Memory: while counting, each distinct feature costs its bytes plus
-//! about 40 bytes; the frozen index keeps the kept features once, in a
-//! hash map from string to id.
+//! about 40 bytes; the frozen index keeps the kept features once, one
+//! after another, with 8 bytes of end offset and 12 to 24 bytes of hash
+//! table each.
 
-use std::collections::hash_map::Entry;
+use std::fmt;
 
 use rustc_hash::FxHashMap;
+use serde::de::{DeserializeSeed, SeqAccess, Visitor};
 use serde::{Deserialize, Deserializer, Serialize, Serializer};
 
 use crate::extract::{Extractor, Features};
@@ -66,24 +68,151 @@ impl FeatureIndexBuilder {
             .map(|(feature, (order, _))| (order, feature))
             .collect();
         kept.sort_unstable_by_key(|&(order, _)| order);
-        let ids = kept
-            .into_iter()
-            .enumerate()
-            .map(|(id, (_, feature))| (feature, id as u32))
-            .collect();
-        FeatureIndex { ids }
+        let mut index = FeatureIndex::with_capacity(kept.len());
+        for (_, feature) in &kept {
+            let fresh = index.push(feature);
+            debug_assert!(fresh, "the builder counts each feature once");
+        }
+        index
     }
 }
 
 /// A frozen map from feature strings to ids `0..len()`.
 ///
 /// Serialises as the list of features in id order.
-#[derive(Clone, Debug, Default, PartialEq, Eq)]
+///
+/// The features are kept one after another in one string, in id order,
+/// and found through an open-addressing table (linear probing, at most
+/// two thirds full) whose slots hold an id and 32 bits of the feature's
+/// hash. A look-up hashes the key once and compares bytes only where
+/// those bits match, so a feature that is absent usually costs one read
+/// of the table; loading a model allocates three buffers, not one string
+/// per feature.
+#[derive(Clone, Debug, Default)]
 pub struct FeatureIndex {
-    ids: FxHashMap<Box<str>, u32>,
+    /// Every feature, in id order, one after another.
+    text: String,
+    /// The end of each feature in `text`, by id.
+    ends: Vec<usize>,
+    /// The table: 0 for an empty slot, else the hash bits in the high
+    /// half and the id + 1 in the low half. Its length is a power of two
+    /// (or 0 while the index is empty).
+    slots: Vec<u64>,
+}
+
+/// The hash of a feature: FxHash of its bytes, spread by two
+/// multiplications, the high half of one choosing the slot and that of
+/// the other kept in it (so the two are not the same bits).
+fn hash(feature: &str) -> (usize, u64) {
+    use std::hash::Hasher;
+    let mut h = rustc_hash::FxHasher::default();
+    h.write(feature.as_bytes());
+    let h = h.finish();
+    let home = (h.wrapping_mul(0x9E37_79B9_7F4A_7C15) >> 32) as usize;
+    let tag = h.wrapping_mul(0xD6E8_FEB8_6659_FD93) & 0xFFFF_FFFF_0000_0000;
+    (home, tag)
 }
 
 impl FeatureIndex {
+    /// An empty index with room for `n` features without regrowing the
+    /// table.
+    fn with_capacity(n: usize) -> FeatureIndex {
+        let slots = (n + n / 2 + 1).next_power_of_two().max(8);
+        FeatureIndex {
+            text: String::new(),
+            ends: Vec::with_capacity(n),
+            slots: vec![0; slots],
+        }
+    }
+
+    /// The feature with id `id`.
+    fn name(&self, id: usize) -> &str {
+        let start = if id == 0 { 0 } else { self.ends[id - 1] };
+        &self.text[start..self.ends[id]]
+    }
+
+    /// The slot where `feature` is, or the empty slot where it would go,
+    /// and the slot value it has there.
+    fn find(&self, feature: &str) -> (usize, u64) {
+        let (home, tag) = hash(feature);
+        let mask = self.slots.len() - 1;
+        let mut k = home & mask;
+        loop {
+            let slot = self.slots[k];
+            if slot == 0 {
+                return (k, tag);
+            }
+            if slot & 0xFFFF_FFFF_0000_0000 == tag {
+                let id = (slot & 0xFFFF_FFFF) as usize - 1;
+                if self.name(id) == feature {
+                    return (k, slot);
+                }
+            }
+            k = (k + 1) & mask;
+        }
+    }
+
+    /// Gives `feature` the next id; false (and nothing changes) if it
+    /// already has one.
+    fn push(&mut self, feature: &str) -> bool {
+        if 3 * (self.ends.len() + 1) > 2 * self.slots.len() {
+            self.grow();
+        }
+        let (k, value) = self.find(feature);
+        if self.slots[k] != 0 {
+            return false;
+        }
+        let id = self.ends.len();
+        assert!(id < u32::MAX as usize, "at most 2^32 - 1 features");
+        self.text.push_str(feature);
+        self.ends.push(self.text.len());
+        self.slots[k] = value | (id as u64 + 1);
+        true
+    }
+
+    /// Doubles the table (or makes the first one).
+    fn grow(&mut self) {
+        let size = (self.slots.len() * 2).max(8);
+        let fresh = self.rebuild(size);
+        debug_assert!(fresh.is_none(), "the table held no repeats");
+    }
+
+    /// Makes a table of `size` slots (a power of two, more than the
+    /// features) for the features of `text` and `ends`; returns the id of
+    /// a feature that repeats an earlier one, if any (the table is then
+    /// not usable). Inserts in the order of the home slots, so that the
+    /// writes sweep the table once instead of landing at random: loading
+    /// a model with millions of features is several times faster.
+    fn rebuild(&mut self, size: usize) -> Option<usize> {
+        let mask = size - 1;
+        // Home slot, hash bits and id of each feature, read in id order
+        // (one pass over the text), then sorted by home slot.
+        let mut order: Vec<(u32, u32, u32)> = (0..self.ends.len())
+            .map(|id| {
+                let (home, tag) = hash(self.name(id));
+                ((home & mask) as u32, (tag >> 32) as u32, id as u32)
+            })
+            .collect();
+        order.sort_unstable_by_key(|&(home, _, _)| home);
+        self.slots = vec![0; size];
+        for (home, tag, id) in order {
+            let value = (u64::from(tag) << 32) | (u64::from(id) + 1);
+            let mut k = home as usize;
+            while self.slots[k] != 0 {
+                let slot = self.slots[k];
+                if slot >> 32 == u64::from(tag) {
+                    let other = (slot & 0xFFFF_FFFF) as usize - 1;
+                    if self.name(other) == self.name(id as usize) {
+                        return Some(id as usize);
+                    }
+                }
+                k = (k + 1) & mask;
+            }
+            self.slots[k] = value;
+        }
+        None
+    }
+
     /// Counts the features of `sentences` with `extractor` and keeps
     /// those seen at least the config's `min_count` times.
     pub fn from_sentences<I, T, S>(extractor: &Extractor, sentences: I) -> Self
@@ -102,36 +231,50 @@ impl FeatureIndex {
     }
 
     /// The id of `feature`, or `None` if it was not kept.
+    #[inline]
     pub fn get(&self, feature: &str) -> Option<u32> {
-        self.ids.get(feature).copied()
+        if self.ends.is_empty() {
+            return None;
+        }
+        let (_, slot) = self.find(feature);
+        match slot & 0xFFFF_FFFF {
+            0 => None,
+            id => Some(id as u32 - 1),
+        }
     }
 
     /// The number of features, which is one more than the largest id.
     pub fn len(&self) -> usize {
-        self.ids.len()
+        self.ends.len()
     }
 
     /// Whether no feature was kept.
     pub fn is_empty(&self) -> bool {
-        self.ids.is_empty()
+        self.ends.is_empty()
     }
 
     /// Every feature, indexed by its id. Builds the list on each call.
     pub fn names(&self) -> Vec<&str> {
-        let mut names = vec![""; self.ids.len()];
-        for (feature, &id) in &self.ids {
-            names[id as usize] = feature;
-        }
-        names
+        (0..self.ends.len()).map(|id| self.name(id)).collect()
     }
 }
+
+/// Two indexes are equal when they give the same features the same ids
+/// (the tables may differ in size).
+impl PartialEq for FeatureIndex {
+    fn eq(&self, other: &FeatureIndex) -> bool {
+        self.ends == other.ends && self.text == other.text
+    }
+}
+
+impl Eq for FeatureIndex {}
 
 impl Serialize for FeatureIndex {
     fn serialize<Ser: Serializer>(
         &self,
         s: Ser,
     ) -> Result<Ser::Ok, Ser::Error> {
-        s.collect_seq(self.names())
+        s.collect_seq((0..self.ends.len()).map(|id| self.name(id)))
     }
 }
 
@@ -139,23 +282,73 @@ impl<'de> Deserialize<'de> for FeatureIndex {
     fn deserialize<D: Deserializer<'de>>(
         d: D,
     ) -> Result<FeatureIndex, D::Error> {
-        let names = Vec::<Box<str>>::deserialize(d)?;
-        let mut ids = FxHashMap::default();
-        ids.reserve(names.len());
-        for (id, feature) in names.into_iter().enumerate() {
-            match ids.entry(feature) {
-                Entry::Occupied(e) => {
-                    let e = crate::Error::DuplicateFeature {
-                        feature: e.key().to_string(),
-                    };
-                    return Err(serde::de::Error::custom(e));
-                }
-                Entry::Vacant(e) => {
-                    e.insert(id as u32);
-                }
+        d.deserialize_seq(IndexVisitor)
+    }
+}
+
+/// Reads the list of features straight into the index, without a string
+/// per feature.
+struct IndexVisitor;
+
+impl<'de> Visitor<'de> for IndexVisitor {
+    type Value = FeatureIndex;
+
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str("a list of feature strings")
+    }
+
+    fn visit_seq<A: SeqAccess<'de>>(
+        self,
+        mut seq: A,
+    ) -> Result<FeatureIndex, A::Error> {
+        // The hint comes from the file: trust it only so far.
+        let hint = seq.size_hint().unwrap_or(0).min(1 << 24);
+        let mut index = FeatureIndex {
+            text: String::new(),
+            ends: Vec::with_capacity(hint),
+            slots: Vec::new(),
+        };
+        while seq.next_element_seed(Name(&mut index))?.is_some() {}
+        let n = index.ends.len();
+        if n > 0 {
+            let size = (n + n / 2 + 1).next_power_of_two().max(8);
+            if let Some(id) = index.rebuild(size) {
+                let feature = index.name(id).to_string();
+                let e = crate::Error::DuplicateFeature { feature };
+                return Err(serde::de::Error::custom(e));
             }
         }
-        Ok(FeatureIndex { ids })
+        Ok(index)
+    }
+}
+
+/// One feature of the list, appended to the index's text as it is read
+/// (the table is built after the last).
+struct Name<'a>(&'a mut FeatureIndex);
+
+impl<'de> DeserializeSeed<'de> for Name<'_> {
+    type Value = ();
+
+    fn deserialize<D: Deserializer<'de>>(self, d: D) -> Result<(), D::Error> {
+        d.deserialize_str(self)
+    }
+}
+
+impl<'de> Visitor<'de> for Name<'_> {
+    type Value = ();
+
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str("a feature string")
+    }
+
+    fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<(), E> {
+        let index = self.0;
+        if index.ends.len() >= u32::MAX as usize - 1 {
+            return Err(E::custom("more than 2^32 - 2 features"));
+        }
+        index.text.push_str(v);
+        index.ends.push(index.text.len());
+        Ok(())
     }
 }
 
@@ -232,5 +425,51 @@ mod tests {
         let e = serde_json::from_str::<FeatureIndex>(r#"["a","b","a"]"#)
             .unwrap_err();
         assert!(e.to_string().contains("\"a\" twice"), "{e}");
+    }
+
+    /// The open-addressing table finds what a plain hash map finds, for
+    /// random strings present and absent, through every regrowth of the
+    /// table (from empty) and at the size a build chooses.
+    #[test]
+    fn table_lookups_equal_a_hash_map() {
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
+        let word = |rng: &mut rand_chacha::ChaCha8Rng| -> String {
+            let len = rng.random_range(0..12);
+            (0..len).map(|_| rng.random_range('a'..='f')).collect()
+        };
+        let mut grown = FeatureIndex::default();
+        let mut plain: std::collections::HashMap<String, u32> =
+            std::collections::HashMap::new();
+        let mut order = Vec::new();
+        for _ in 0..20_000 {
+            let w = word(&mut rng);
+            let fresh = !plain.contains_key(&w);
+            assert_eq!(grown.push(&w), fresh, "{w:?}");
+            if fresh {
+                plain.insert(w.clone(), order.len() as u32);
+                order.push(w);
+            }
+        }
+        let mut built = FeatureIndexBuilder::new();
+        for w in &order {
+            built.add_feature(w);
+        }
+        let built = built.build(1);
+        assert_eq!(built, grown);
+        assert_eq!(grown.len(), order.len());
+        assert_eq!(grown.names(), order);
+        for _ in 0..20_000 {
+            let w =
+                word(&mut rng) + if rng.random_bool(0.5) { "" } else { "g" };
+            let want = plain.get(&w).copied();
+            assert_eq!(grown.get(&w), want, "{w:?}");
+            assert_eq!(built.get(&w), want, "{w:?}");
+        }
+        assert_eq!(FeatureIndex::default().get(""), None);
+        let json = serde_json::to_string(&grown).unwrap();
+        let back: FeatureIndex = serde_json::from_str(&json).unwrap();
+        assert_eq!(back, grown);
+        assert!(order.iter().all(|w| back.get(w) == plain.get(w).copied()));
     }
 }
