@@ -152,14 +152,7 @@ fn featurize(
     for (file, found) in &files {
         for (sentence, found) in file.sentences.iter().zip(found) {
             let tokens = sentence.column(token_column)?;
-            let columns: Vec<Vec<&str>> = found
-                .iter()
-                .map(|&col| {
-                    (0..sentence.len())
-                        .map(|row| sentence.cell(row, col))
-                        .collect()
-                })
-                .collect();
+            let columns = sentence.cells_of(found);
             let columns: Vec<&[&str]> =
                 columns.iter().map(Vec::as_slice).collect();
             extractor.extract_with(&tokens, &columns, &mut features);

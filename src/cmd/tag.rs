@@ -122,14 +122,7 @@ pub fn run(args: Args) -> Result<()> {
         for (file, wanted) in &files {
             for (sentence, wanted) in file.sentences.iter().zip(wanted) {
                 let tokens = sentence.column(args.token_column)?;
-                let columns: Vec<Vec<&str>> = wanted
-                    .iter()
-                    .map(|&col| {
-                        (0..sentence.len())
-                            .map(|row| sentence.cell(row, col))
-                            .collect()
-                    })
-                    .collect();
+                let columns = sentence.cells_of(wanted);
                 let columns: Vec<&[&str]> =
                     columns.iter().map(Vec::as_slice).collect();
                 let labels = model.tag_with(&tokens, &columns, &mut work);

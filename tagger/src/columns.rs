@@ -170,6 +170,20 @@ impl Sentence {
         &self.text[start..self.ends[k]]
     }
 
+    /// The cells of each of the 0-based columns `cols`, top to bottom:
+    /// the values of feature columns as the extractor takes them.
+    ///
+    /// # Panics
+    ///
+    /// When a column is `>= self.width()`.
+    pub fn cells_of(&self, cols: &[usize]) -> Vec<Vec<&str>> {
+        cols.iter()
+            .map(|&col| {
+                (0..self.len()).map(|row| self.cell(row, col)).collect()
+            })
+            .collect()
+    }
+
     /// The cells of 0-based `row`, in order.
     ///
     /// # Panics
