@@ -46,10 +46,7 @@ impl LabeledFile {
             sentences.push(Labeled::read(s, spec, features)?);
             lines.push(s.lines().to_vec());
         }
-        let mixed = file
-            .mixed
-            .filter(|m| m.differs.is_some())
-            .map(|m| format!("{}: {m}", path.display()));
+        let mixed = file.mixed_warning();
         Ok(LabeledFile { path: path.to_path_buf(), sentences, mixed, lines })
     }
 

@@ -24,6 +24,11 @@ pub fn default_threads() -> usize {
     std::thread::available_parallelism().map_or(1, |n| n.get()).min(8)
 }
 
+/// The most worker threads a run accepts (`--threads`, and `threads` in
+/// the Python package): far beyond what the parallel loops can use, low
+/// enough that a typo cannot make thousands of threads and their stacks.
+pub const MAX_THREADS: usize = 1024;
+
 /// Helpers for the unit tests of the SVG drawings.
 #[cfg(test)]
 pub(crate) mod svg_test {

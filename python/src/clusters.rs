@@ -182,9 +182,10 @@ impl Clusters {
         at_least("min_count", min_count, 1)?;
         let threads = threads.unwrap_or_else(lexiclade::default_threads);
         at_least("threads", threads as u64, 1)?;
-        if threads > 1024 {
+        if threads > lexiclade::MAX_THREADS {
             return Err(value_error(format!(
-                "threads must be between 1 and 1024, got {threads}"
+                "threads must be between 1 and {}, got {threads}",
+                lexiclade::MAX_THREADS
             )));
         }
         let options = TokenOptions { tokenize, lowercase, nfc };

@@ -18,9 +18,9 @@ pub mod train;
 /// alone (a token holding a space, an empty cell). The lines of both are
 /// named.
 pub fn warn_mixed(file: &lexiclade_tagger::columns::ColumnFile, quiet: bool) {
-    if let Some(mixed) = file.mixed.filter(|m| m.differs.is_some()) {
+    if let Some(warning) = file.mixed_warning() {
         if !quiet {
-            eprintln!("lexiclade: warning: {}: {mixed}", file.path.display());
+            eprintln!("lexiclade: warning: {warning}");
         }
     }
 }
@@ -38,12 +38,7 @@ impl std::fmt::Display for Internal {
 
 impl std::error::Error for Internal {}
 
-pub use lexiclade::default_threads;
-
-/// The most worker threads `--threads` accepts: far beyond what the
-/// parallel loops can use, low enough that a typo cannot make thousands
-/// of threads and their stacks.
-pub const MAX_THREADS: usize = 1024;
+pub use lexiclade::{default_threads, MAX_THREADS};
 
 /// The `--threads` value, or the default: refused unless between 1 and
 /// [`MAX_THREADS`].

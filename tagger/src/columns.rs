@@ -265,6 +265,14 @@ pub struct ColumnFile {
 }
 
 impl ColumnFile {
+    /// The warning for a file whose rows mix tabs and spaces where that
+    /// changes a row (`FILE: …` naming the lines), for the caller to
+    /// print; `None` where the choice of separator changed nothing.
+    pub fn mixed_warning(&self) -> Option<String> {
+        let mixed = self.mixed.filter(|m| m.differs.is_some())?;
+        Some(format!("{}: {mixed}", self.path.display()))
+    }
+
     /// The number of token rows over all sentences.
     pub fn tokens(&self) -> usize {
         self.sentences.iter().map(Sentence::len).sum()
