@@ -141,7 +141,7 @@ fn bad_models_and_inputs_are_one_line_errors() {
     tag("cut.bin").user_error("cut.bin: truncated model file");
     tag("flipped.bin").user_error("checksum mismatch");
     tag("v1.bin").user_error(
-        "model format version 1 is not supported (this build reads version 3)",
+        "model format version 1 is not supported (this build reads version 4)",
     );
     tag("text.bin").user_error("not a lexiclade model file");
     tag("missing.bin").user_error("missing.bin");

@@ -12,10 +12,7 @@
 //! after another, with 8 bytes of end offset and 12 to 24 bytes of hash
 //! table each.
 
-use std::fmt;
-
 use rustc_hash::FxHashMap;
-use serde::de::{DeserializeSeed, SeqAccess, Visitor};
 use serde::{Deserialize, Deserializer, Serialize, Serializer};
 
 use crate::extract::{Extractor, Features};
@@ -79,7 +76,8 @@ impl FeatureIndexBuilder {
 
 /// A frozen map from feature strings to ids `0..len()`.
 ///
-/// Serialises as the list of features in id order.
+/// Serialises as the features in id order, joined into one string, and
+/// the length of each.
 ///
 /// The features are kept one after another in one string, in id order,
 /// and found through an open-addressing table (linear probing, at most
@@ -95,33 +93,39 @@ pub struct FeatureIndex {
     /// The end of each feature in `text`, by id.
     ends: Vec<usize>,
     /// The table: 0 for an empty slot, else the hash bits in the high
-    /// half and the id + 1 in the low half. Its length is a power of two
-    /// (or 0 while the index is empty).
+    /// half and the id + 1 in the low half. Any length (0 while the
+    /// index is empty): the home slot is the hash scaled to it.
     slots: Vec<u64>,
 }
 
 /// The hash of a feature: FxHash of its bytes, spread by two
-/// multiplications, the high half of one choosing the slot and that of
-/// the other kept in it (so the two are not the same bits).
-fn hash(feature: &str) -> (usize, u64) {
+/// multiplications, one giving the home slot among `size` (its high
+/// bits scaled to the table) and the other the bits kept in the slot
+/// (so the two are not the same bits).
+fn hash(feature: &str, size: usize) -> (usize, u64) {
     use std::hash::Hasher;
     let mut h = rustc_hash::FxHasher::default();
     h.write(feature.as_bytes());
     let h = h.finish();
-    let home = (h.wrapping_mul(0x9E37_79B9_7F4A_7C15) >> 32) as usize;
+    let spread = h.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    let home = ((u128::from(spread) * size as u128) >> 64) as usize;
     let tag = h.wrapping_mul(0xD6E8_FEB8_6659_FD93) & 0xFFFF_FFFF_0000_0000;
     (home, tag)
+}
+
+/// The table size for `n` features: at most two thirds full.
+fn table_size(n: usize) -> usize {
+    (n + n / 2 + 1).max(8)
 }
 
 impl FeatureIndex {
     /// An empty index with room for `n` features without regrowing the
     /// table.
     fn with_capacity(n: usize) -> FeatureIndex {
-        let slots = (n + n / 2 + 1).next_power_of_two().max(8);
         FeatureIndex {
             text: String::new(),
             ends: Vec::with_capacity(n),
-            slots: vec![0; slots],
+            slots: vec![0; table_size(n)],
         }
     }
 
@@ -133,10 +137,10 @@ impl FeatureIndex {
 
     /// The slot where `feature` is, or the empty slot where it would go,
     /// and the slot value it has there.
+    #[inline]
     fn find(&self, feature: &str) -> (usize, u64) {
-        let (home, tag) = hash(feature);
-        let mask = self.slots.len() - 1;
-        let mut k = home & mask;
+        let size = self.slots.len();
+        let (mut k, tag) = hash(feature, size);
         loop {
             let slot = self.slots[k];
             if slot == 0 {
@@ -148,7 +152,10 @@ impl FeatureIndex {
                     return (k, slot);
                 }
             }
-            k = (k + 1) & mask;
+            k += 1;
+            if k == size {
+                k = 0;
+            }
         }
     }
 
@@ -177,36 +184,62 @@ impl FeatureIndex {
         debug_assert!(fresh.is_none(), "the table held no repeats");
     }
 
-    /// Makes a table of `size` slots (a power of two, more than the
-    /// features) for the features of `text` and `ends`; returns the id of
-    /// a feature that repeats an earlier one, if any (the table is then
-    /// not usable). Inserts in the order of the home slots, so that the
-    /// writes sweep the table once instead of landing at random: loading
-    /// a model with millions of features is several times faster.
+    /// Makes a table of `size` slots (more than the features) for the
+    /// features of `text` and `ends`; returns the id of a feature that
+    /// repeats an earlier one, if any (the table is then not usable).
+    ///
+    /// Inserts in the order of the home slots, so that the writes sweep
+    /// the table once instead of landing at random: loading a model with
+    /// millions of features is several times faster. The order comes
+    /// from a counting sort on the home slot's block of at most 4,096
+    /// blocks: within a block the writes stay within a few kilobytes,
+    /// which is as good as fully sorted and costs two passes instead of
+    /// a sort.
     fn rebuild(&mut self, size: usize) -> Option<usize> {
-        let mask = size - 1;
-        // Home slot, hash bits and id of each feature, read in id order
-        // (one pass over the text), then sorted by home slot.
-        let mut order: Vec<(u32, u32, u32)> = (0..self.ends.len())
+        let n = self.ends.len();
+        // Home slot and hash bits of each feature, read in id order (one
+        // pass over the text).
+        let hashed: Vec<(usize, u32)> = (0..n)
             .map(|id| {
-                let (home, tag) = hash(self.name(id));
-                ((home & mask) as u32, (tag >> 32) as u32, id as u32)
+                let (home, tag) = hash(self.name(id), size);
+                (home, (tag >> 32) as u32)
             })
             .collect();
-        order.sort_unstable_by_key(|&(home, _, _)| home);
+        let shift = (usize::BITS - size.leading_zeros()).saturating_sub(12);
+        let blocks = (size >> shift) + 1;
+        let mut starts = vec![0usize; blocks + 1];
+        for &(home, _) in &hashed {
+            starts[(home >> shift) + 1] += 1;
+        }
+        for b in 0..blocks {
+            starts[b + 1] += starts[b];
+        }
+        // The whole entry moves, so that the writes below read it in
+        // order rather than at random.
+        let mut order = vec![(0usize, 0u32, 0u32); n];
+        for (id, &(home, tag)) in hashed.iter().enumerate() {
+            let b = home >> shift;
+            order[starts[b]] = (home, tag, id as u32);
+            starts[b] += 1;
+        }
+        drop(hashed);
         self.slots = vec![0; size];
         for (home, tag, id) in order {
             let value = (u64::from(tag) << 32) | (u64::from(id) + 1);
-            let mut k = home as usize;
+            let mut k = home;
             while self.slots[k] != 0 {
                 let slot = self.slots[k];
                 if slot >> 32 == u64::from(tag) {
                     let other = (slot & 0xFFFF_FFFF) as usize - 1;
                     if self.name(other) == self.name(id as usize) {
-                        return Some(id as usize);
+                        // The later of the two is the repeat.
+                        return Some(other.max(id as usize));
                     }
                 }
-                k = (k + 1) & mask;
+                k += 1;
+                if k == size {
+                    k = 0;
+                }
             }
             self.slots[k] = value;
         }
@@ -274,7 +307,17 @@ impl Serialize for FeatureIndex {
         &self,
         s: Ser,
     ) -> Result<Ser::Ok, Ser::Error> {
-        s.collect_seq((0..self.ends.len()).map(|id| self.name(id)))
+        let mut start = 0;
+        let lengths: Vec<u32> = self
+            .ends
+            .iter()
+            .map(|&end| {
+                let len = end - start;
+                start = end;
+                u32::try_from(len).expect("a feature under 4 GiB")
+            })
+            .collect();
+        RawIndex { text: self.text.as_str().into(), lengths }.serialize(s)
     }
 }
 
@@ -282,74 +325,49 @@ impl<'de> Deserialize<'de> for FeatureIndex {
     fn deserialize<D: Deserializer<'de>>(
         d: D,
     ) -> Result<FeatureIndex, D::Error> {
-        d.deserialize_seq(IndexVisitor)
-    }
-}
-
-/// Reads the list of features straight into the index, without a string
-/// per feature.
-struct IndexVisitor;
-
-impl<'de> Visitor<'de> for IndexVisitor {
-    type Value = FeatureIndex;
-
-    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-        f.write_str("a list of feature strings")
-    }
-
-    fn visit_seq<A: SeqAccess<'de>>(
-        self,
-        mut seq: A,
-    ) -> Result<FeatureIndex, A::Error> {
-        // The hint comes from the file: trust it only so far.
-        let hint = seq.size_hint().unwrap_or(0).min(1 << 24);
-        let mut index = FeatureIndex {
-            text: String::new(),
-            ends: Vec::with_capacity(hint),
-            slots: Vec::new(),
-        };
-        while seq.next_element_seed(Name(&mut index))?.is_some() {}
+        use serde::de::Error as _;
+        let raw = RawIndex::deserialize(d)?;
+        let text = raw.text.into_owned();
+        if raw.lengths.len() >= u32::MAX as usize {
+            return Err(D::Error::custom("more than 2^32 - 2 features"));
+        }
+        let mut ends = Vec::with_capacity(raw.lengths.len());
+        let mut end = 0usize;
+        for &len in &raw.lengths {
+            end = end.saturating_add(len as usize);
+            if end > text.len() || !text.is_char_boundary(end) {
+                return Err(D::Error::custom(
+                    "feature lengths that do not fit the features' text",
+                ));
+            }
+            ends.push(end);
+        }
+        if end != text.len() {
+            return Err(D::Error::custom(
+                "feature lengths that do not fit the features' text",
+            ));
+        }
+        let mut index = FeatureIndex { text, ends, slots: Vec::new() };
         let n = index.ends.len();
         if n > 0 {
-            let size = (n + n / 2 + 1).next_power_of_two().max(8);
-            if let Some(id) = index.rebuild(size) {
+            if let Some(id) = index.rebuild(table_size(n)) {
                 let feature = index.name(id).to_string();
                 let e = crate::Error::DuplicateFeature { feature };
-                return Err(serde::de::Error::custom(e));
+                return Err(D::Error::custom(e));
             }
         }
         Ok(index)
     }
 }
 
-/// One feature of the list, appended to the index's text as it is read
-/// (the table is built after the last).
-struct Name<'a>(&'a mut FeatureIndex);
-
-impl<'de> DeserializeSeed<'de> for Name<'_> {
-    type Value = ();
-
-    fn deserialize<D: Deserializer<'de>>(self, d: D) -> Result<(), D::Error> {
-        d.deserialize_str(self)
-    }
-}
-
-impl<'de> Visitor<'de> for Name<'_> {
-    type Value = ();
-
-    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-        f.write_str("a feature string")
-    }
-
-    fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<(), E> {
-        let index = self.0;
-        if index.ends.len() >= u32::MAX as usize - 1 {
-            return Err(E::custom("more than 2^32 - 2 features"));
-        }
-        index.text.push_str(v);
-        index.ends.push(index.text.len());
-        Ok(())
-    }
+/// How a [`FeatureIndex`] is written: every feature in id order in one
+/// string (checked as UTF-8 once, not once per feature), and the length
+/// of each in bytes.
+#[derive(Serialize, Deserialize)]
+struct RawIndex<'a> {
+    #[serde(borrow)]
+    text: std::borrow::Cow<'a, str>,
+    lengths: Vec<u32>,
 }
 
 #[cfg(test)]
@@ -419,12 +437,27 @@ mod tests {
     fn serde_round_trip_and_repeats_refused() {
         let index = FeatureIndex::from_sentences(&extractor(1), TRAIN);
         let json = serde_json::to_string(&index).unwrap();
-        assert_eq!(json, r#"["bias","w=a","w=b","w=c","w=d","w=e"]"#);
+        assert_eq!(
+            json,
+            r#"{"text":"biasw=aw=bw=cw=dw=e","lengths":[4,3,3,3,3,3]}"#
+        );
         let back: FeatureIndex = serde_json::from_str(&json).unwrap();
         assert_eq!(back, index);
-        let e = serde_json::from_str::<FeatureIndex>(r#"["a","b","a"]"#)
-            .unwrap_err();
+        let e = serde_json::from_str::<FeatureIndex>(
+            r#"{"text":"aba","lengths":[1,1,1]}"#,
+        )
+        .unwrap_err();
         assert!(e.to_string().contains("\"a\" twice"), "{e}");
+        // Lengths that overrun the text, fall short of it, or cut a
+        // character in two.
+        for bad in [
+            r#"{"text":"ab","lengths":[1,2]}"#,
+            r#"{"text":"abc","lengths":[1,1]}"#,
+            r#"{"text":"é","lengths":[1,1]}"#,
+        ] {
+            let e = serde_json::from_str::<FeatureIndex>(bad).unwrap_err();
+            assert!(e.to_string().contains("do not fit"), "{bad}: {e}");
+        }
     }
 
     /// The open-addressing table finds what a plain hash map finds, for

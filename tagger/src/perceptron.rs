@@ -27,7 +27,9 @@
 //! has been updated for. Most features co-occur with one or two labels,
 //! so scoring a token costs the number of (feature, label) pairs it
 //! touches rather than features × labels, which matters with 175 POS
-//! tags.
+//! tags. The averaged weights keep these lists one after another in one
+//! buffer (compressed rows), which a model file fills in a few long
+//! copies.
 
 /// A sentence as feature ids per token (compressed rows) and, for
 /// training, gold label ids.
@@ -142,17 +144,166 @@ impl Constraints {
 
 /// Decoding weights: per feature the labels it has a weight for, and a
 /// dense transition table with a start row and an end column.
+///
+/// The rows lie one after another in one list (compressed rows), so a
+/// model of millions of features loads as a few buffers rather than one
+/// allocation per feature, and scoring a feature reads one offset pair
+/// and one short run of entries.
 #[derive(Clone, Debug, PartialEq, serde::Serialize, serde::Deserialize)]
+#[serde(into = "RawWeights", try_from = "RawWeights")]
 pub struct Weights {
     labels: usize,
-    /// Per feature, `(label, weight)` sorted by label.
-    rows: Vec<Vec<(u32, f32)>>,
+    /// Feature `f`'s entries are `entries[ends[f - 1]..ends[f]]` (from 0
+    /// for `f = 0`).
+    ends: Vec<u64>,
+    /// `(label, weight)`, sorted by label within each row.
+    entries: Vec<(u32, f32)>,
     /// `(labels + 1)²`: row `labels` is the start, column `labels` the
     /// end.
     transitions: Vec<f32>,
 }
 
+/// How [`Weights`] are written: the row lengths, then the labels and
+/// the weights of all rows as little-endian bytes (read in one go
+/// instead of one number at a time).
+#[derive(serde::Serialize, serde::Deserialize)]
+struct RawWeights {
+    labels: usize,
+    lengths: Vec<u32>,
+    entry_labels: Bytes,
+    entry_weights: Bytes,
+    transitions: Vec<f32>,
+}
+
+impl From<Weights> for RawWeights {
+    fn from(w: Weights) -> RawWeights {
+        let mut start = 0;
+        let lengths = w
+            .ends
+            .iter()
+            .map(|&end| {
+                let n = end - start;
+                start = end;
+                u32::try_from(n)
+                    .expect("a row has at most one entry per label")
+            })
+            .collect();
+        let entry_labels =
+            w.entries.iter().flat_map(|e| e.0.to_le_bytes()).collect();
+        let entry_weights =
+            w.entries.iter().flat_map(|e| e.1.to_le_bytes()).collect();
+        RawWeights {
+            labels: w.labels,
+            lengths,
+            entry_labels: Bytes(entry_labels),
+            entry_weights: Bytes(entry_weights),
+            transitions: w.transitions,
+        }
+    }
+}
+
+impl TryFrom<RawWeights> for Weights {
+    type Error = String;
+
+    /// Checks only that the parts fit together; [`Weights::check`]
+    /// checks them against the model.
+    fn try_from(raw: RawWeights) -> Result<Weights, String> {
+        let n = raw.entry_labels.0.len();
+        if n % 4 != 0 || raw.entry_weights.0.len() != n {
+            return Err("weight entries of unequal lengths".into());
+        }
+        let mut ends = Vec::with_capacity(raw.lengths.len());
+        let mut end = 0u64;
+        for &len in &raw.lengths {
+            end += u64::from(len);
+            ends.push(end);
+        }
+        if end != (n / 4) as u64 {
+            return Err("row lengths do not add up to the entries".into());
+        }
+        let word = |b: &[u8]| <[u8; 4]>::try_from(b).expect("4 bytes");
+        let entries = raw
+            .entry_labels
+            .0
+            .chunks_exact(4)
+            .zip(raw.entry_weights.0.chunks_exact(4))
+            .map(|(y, w)| {
+                (u32::from_le_bytes(word(y)), f32::from_le_bytes(word(w)))
+            })
+            .collect();
+        Ok(Weights {
+            labels: raw.labels,
+            ends,
+            entries,
+            transitions: raw.transitions,
+        })
+    }
+}
+
+/// A byte string that serialises as one (postcard writes its length and
+/// copies it), not as a list of numbers.
+struct Bytes(Vec<u8>);
+
+impl serde::Serialize for Bytes {
+    fn serialize<S: serde::Serializer>(
+        &self,
+        s: S,
+    ) -> Result<S::Ok, S::Error> {
+        s.serialize_bytes(&self.0)
+    }
+}
+
+impl<'de> serde::Deserialize<'de> for Bytes {
+    fn deserialize<D: serde::Deserializer<'de>>(
+        d: D,
+    ) -> Result<Bytes, D::Error> {
+        struct Visit;
+        impl<'de> serde::de::Visitor<'de> for Visit {
+            type Value = Bytes;
+            fn expecting(
+                &self,
+                f: &mut std::fmt::Formatter,
+            ) -> std::fmt::Result {
+                f.write_str("a byte string")
+            }
+            fn visit_bytes<E>(self, v: &[u8]) -> Result<Bytes, E> {
+                Ok(Bytes(v.to_vec()))
+            }
+            fn visit_byte_buf<E>(self, v: Vec<u8>) -> Result<Bytes, E> {
+                Ok(Bytes(v))
+            }
+            fn visit_seq<A: serde::de::SeqAccess<'de>>(
+                self,
+                mut seq: A,
+            ) -> Result<Bytes, A::Error> {
+                let mut v = Vec::new();
+                while let Some(b) = seq.next_element()? {
+                    v.push(b);
+                }
+                Ok(Bytes(v))
+            }
+        }
+        d.deserialize_bytes(Visit)
+    }
+}
+
 impl Weights {
+    /// Weights from one `(label, weight)` list per feature (each sorted
+    /// by label) and the transition table.
+    pub fn from_rows(
+        labels: usize,
+        rows: impl IntoIterator<Item = impl IntoIterator<Item = (u32, f32)>>,
+        transitions: Vec<f32>,
+    ) -> Weights {
+        let mut ends = Vec::new();
+        let mut entries = Vec::new();
+        for row in rows {
+            entries.extend(row);
+            ends.push(entries.len() as u64);
+        }
+        Weights { labels, ends, entries, transitions }
+    }
+
     /// The number of labels.
     pub fn labels(&self) -> usize {
         self.labels
@@ -160,12 +311,24 @@ impl Weights {
 
     /// The number of features.
     pub fn features(&self) -> usize {
-        self.rows.len()
+        self.ends.len()
     }
 
     /// The number of nonzero (feature, label) weights.
     pub fn nonzero(&self) -> usize {
-        self.rows.iter().map(Vec::len).sum()
+        self.entries.len()
+    }
+
+    /// Feature `f`'s `(label, weight)` entries; none beyond the table.
+    #[inline]
+    fn row(&self, f: usize) -> &[(u32, f32)] {
+        match self.ends.get(f) {
+            None => &[],
+            Some(&end) => {
+                let start = if f == 0 { 0 } else { self.ends[f - 1] };
+                &self.entries[start as usize..end as usize]
+            }
+        }
     }
 
     /// Checks that the tables fit `labels` labels and `features`
@@ -177,22 +340,17 @@ impl Weights {
                 self.labels
             ));
         }
-        if self.rows.len() > features {
+        if self.ends.len() > features {
             return Err(format!(
                 "weights for {} features, model has {features}",
-                self.rows.len()
+                self.ends.len()
             ));
         }
         if self.transitions.len() != (labels + 1) * (labels + 1) {
             return Err("transition table of the wrong size".into());
         }
         let labels = labels as u32;
-        if self
-            .rows
-            .iter()
-            .flatten()
-            .any(|&(y, w)| y >= labels || !w.is_finite())
-        {
+        if self.entries.iter().any(|&(y, w)| y >= labels || !w.is_finite()) {
             return Err("a weight for a label that does not exist".into());
         }
         Ok(())
@@ -216,10 +374,8 @@ impl Weights {
             let scores =
                 &mut buf.emissions[i * self.labels..(i + 1) * self.labels];
             for &f in x.token(i) {
-                if let Some(row) = self.rows.get(f as usize) {
-                    for &(y, w) in row {
-                        scores[y as usize] += f64::from(w);
-                    }
+                for &(y, w) in self.row(f as usize) {
+                    scores[y as usize] += f64::from(w);
                 }
             }
         }
@@ -498,55 +654,40 @@ impl Trainer {
     /// The average of the weights over every sentence seen so far.
     pub fn averaged(&self) -> Weights {
         let now = self.now;
-        let rows = self
-            .rows
-            .iter()
-            .map(|row| {
-                row.iter()
-                    .map(|&(y, w)| (y, w.average(now) as f32))
-                    .filter(|&(_, w)| w != 0.0)
-                    .collect()
-            })
-            .collect();
+        let rows = self.rows.iter().map(|row| {
+            row.iter()
+                .map(|&(y, w)| (y, w.average(now) as f32))
+                .filter(|&(_, w)| w != 0.0)
+        });
         let transitions =
             self.transitions.iter().map(|w| w.average(now) as f32).collect();
-        Weights { labels: self.labels, rows, transitions }
+        Weights::from_rows(self.labels, rows, transitions)
     }
 
     /// The current (not averaged) weights.
     pub fn current(&self) -> Weights {
-        let rows = self
-            .rows
-            .iter()
-            .map(|row| {
-                row.iter()
-                    .filter(|(_, w)| w.value != 0)
-                    .map(|&(y, w)| (y, w.value as f32))
-                    .collect()
-            })
-            .collect();
+        let rows = self.rows.iter().map(|row| {
+            row.iter()
+                .filter(|(_, w)| w.value != 0)
+                .map(|&(y, w)| (y, w.value as f32))
+        });
         let transitions =
             self.transitions.iter().map(|w| w.value as f32).collect();
-        Weights { labels: self.labels, rows, transitions }
+        Weights::from_rows(self.labels, rows, transitions)
     }
 
     /// The average weights computed the slow way, for tests: `sums` must
     /// have been filled by [`Trainer::accumulate`] after every sentence.
     pub fn naive_average(&self, sums: &NaiveSums) -> Weights {
         let t = f64::from(self.now.max(1));
-        let rows = sums
-            .rows
-            .iter()
-            .map(|row| {
-                row.iter()
-                    .map(|&(y, s)| (y, (s as f64 / t) as f32))
-                    .filter(|&(_, w)| w != 0.0)
-                    .collect()
-            })
-            .collect();
+        let rows = sums.rows.iter().map(|row| {
+            row.iter()
+                .map(|&(y, s)| (y, (s as f64 / t) as f32))
+                .filter(|&(_, w)| w != 0.0)
+        });
         let transitions =
             sums.transitions.iter().map(|&s| (s as f64 / t) as f32).collect();
-        Weights { labels: self.labels, rows, transitions }
+        Weights::from_rows(self.labels, rows, transitions)
     }
 
     /// Adds every current weight to `sums`: the obviously correct way to
@@ -635,11 +776,11 @@ mod tests {
             |p, n| !(p == Some(0) && n == 1),
             |_| true,
         );
-        let w = Weights {
-            labels: 2,
-            rows: vec![vec![(0, 5.0)], vec![(1, 5.0)]],
-            transitions: vec![0.0; 9],
-        };
+        let w = Weights::from_rows(
+            2,
+            [vec![(0, 5.0)], vec![(1, 5.0)]],
+            vec![0.0; 9],
+        );
         let x = Instance::from_tokens(&[vec![0], vec![1]], vec![]);
         let mut buf = Decoding::default();
         let got = w.decode(&x, &rules, &[], &mut buf);
@@ -662,11 +803,11 @@ mod tests {
             n != 2 || matches!(p, Some(1) | Some(2))
         };
         let rules = Constraints::from_fn(3, allowed, |_| true);
-        let w = Weights {
-            labels: 3,
-            rows: vec![vec![(0, 1.0)], vec![(2, 1.0)], vec![(1, 3.0)]],
-            transitions: vec![0.0; 16],
-        };
+        let w = Weights::from_rows(
+            3,
+            [vec![(0, 1.0)], vec![(2, 1.0)], vec![(1, 3.0)]],
+            vec![0.0; 16],
+        );
         let x = Instance {
             candidates: vec![0, 1, ANY_LABEL],
             ..Instance::from_tokens(&[vec![0], vec![1], vec![2]], vec![])
