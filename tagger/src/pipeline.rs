@@ -4,6 +4,7 @@
 
 use std::collections::{BTreeMap, HashMap};
 use std::path::Path;
+use std::sync::OnceLock;
 use std::time::Instant;
 
 use lexiclade_features::{
@@ -13,6 +14,7 @@ use lexiclade_features::{
 use rand::seq::SliceRandom;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
+use rustc_hash::FxHashMap;
 use serde::{Deserialize, Serialize};
 
 use crate::columns::{Column, ColumnSpec, Sentence};
@@ -216,7 +218,12 @@ pub struct TaggerModel {
     pub rules: Constraints,
     /// Frequent words and the index of their candidate labels in
     /// `candidate_lists`; empty without pruning.
+    /// The tagger reads it through a hash table made at the first
+    /// sentence it tags: set it before that.
     pub dictionary: BTreeMap<String, u32>,
+    /// `dictionary` as a hash table, for the look-up of every token.
+    #[serde(skip)]
+    dictionary_table: OnceLock<FxHashMap<Box<str>, u32>>,
     /// Distinct candidate label lists (ids, sorted).
     pub candidate_lists: Vec<Vec<u32>>,
     /// The epoch whose weights were kept (1-based).
@@ -362,6 +369,7 @@ impl TaggerModel {
             weights: Trainer::new(0, 0).averaged(),
             rules,
             dictionary,
+            dictionary_table: OnceLock::new(),
             candidate_lists,
             best_epoch: 0,
         };
@@ -449,14 +457,15 @@ impl TaggerModel {
         let candidates = if self.dictionary.is_empty() {
             Vec::new()
         } else {
+            let table = self.dictionary_table.get_or_init(|| {
+                self.dictionary
+                    .iter()
+                    .map(|(word, &k)| (word.as_str().into(), k))
+                    .collect()
+            });
             tokens
                 .iter()
-                .map(|t| {
-                    self.dictionary
-                        .get(t.as_ref())
-                        .copied()
-                        .unwrap_or(ANY_LABEL)
-                })
+                .map(|t| table.get(t.as_ref()).copied().unwrap_or(ANY_LABEL))
                 .collect()
         };
         Instance {
