@@ -61,6 +61,7 @@ use serde::{Deserialize, Serialize};
 use crate::config::{Atom, AtomKind, CheckedConfig, FeatureConfig};
 use crate::error::{Error, Result};
 use crate::index::FeatureIndex;
+use crate::memo::Memo;
 use crate::paths::{lowercase_into, needs_lowercasing, Paths};
 
 /// Extracts the features of every token of a sentence.
@@ -540,23 +541,33 @@ impl Extractor {
                     } else {
                         &mut cache.templates
                     };
-                    let id = match table.get(&(t as u32, key3)) {
-                        Some(&id) => id,
-                        None => {
+                    let [a, b, c] = key3;
+                    let id =
+                        table.get_or_insert_with([t as u32, a, b, c], || {
                             let emits = self.write_extra(
                                 e, i, tokens, columns, found, feature, key,
                             );
-                            let id =
-                                if emits { index.get(feature) } else { None };
-                            table.insert((t as u32, key3), id);
-                            id
-                        }
-                    };
+                            if emits {
+                                index.get(feature)
+                            } else {
+                                None
+                            }
+                        });
                     ids.extend(id);
                 }
             }
             starts.push(ids.len());
         }
+    }
+
+    /// Whether an index for this extractor must hold `feature` even when
+    /// the model gives it no weight: the word feature (`w=`) of each
+    /// training word, whose presence tells the cached extraction that a
+    /// conjunction joining the word can be in the index at all. Every
+    /// other feature without a weight may be dropped from a model's index
+    /// without changing a single score.
+    pub fn needs_feature(&self, feature: &str) -> bool {
+        self.config.get().lexical.word && is_word_feature(feature)
     }
 
     /// Whether the config has features beyond those of single words.
@@ -620,7 +631,7 @@ impl Extractor {
                     && feature[1..].starts_with(|c: char| c.is_ascii_digit()));
             if !contextual {
                 let id = index.get(feature);
-                if feature.starts_with("w=") {
+                if is_word_feature(feature) {
                     seen |= id.is_some();
                 }
                 local.extend(id);
@@ -1118,6 +1129,11 @@ impl Extractor {
     }
 }
 
+/// Whether `feature` is a word's own feature (`w=WORD`).
+fn is_word_feature(feature: &str) -> bool {
+    feature.starts_with("w=")
+}
+
 /// Appends `value` with `\` and `|` escaped by a backslash, so that
 /// joined values can be told apart.
 fn push_escaped(value: &str, f: &mut String) {
@@ -1158,13 +1174,13 @@ pub struct IdCache {
     codes: rustc_hash::FxHashMap<Box<str>, u32>,
     /// The id of each column or conjunction template (its number in the
     /// plan) for the codes of the values it joins.
-    templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
+    templates: Memo,
     /// The same for the templates that read no word (column windows and
     /// n-grams, conjunctions of columns, shapes and paths): they recur
     /// on every few tokens, and apart from the word templates' many
     /// entries their table stays small enough for the processor's
     /// caches.
-    small_templates: rustc_hash::FxHashMap<(u32, [u32; 3]), Option<u32>>,
+    small_templates: Memo,
     /// The codes of the current sentence: its tokens' numbers in
     /// `entries`, then the codes of each column's values.
     sentence: Vec<u32>,

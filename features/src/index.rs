@@ -276,6 +276,23 @@ impl FeatureIndex {
         }
     }
 
+    /// The features for which `keep(id, feature)` holds, with new ids in
+    /// the same order, and the old id of each (`kept[new] = old`).
+    pub fn retain(
+        &self,
+        mut keep: impl FnMut(u32, &str) -> bool,
+    ) -> (FeatureIndex, Vec<u32>) {
+        let kept: Vec<u32> = (0..self.ends.len() as u32)
+            .filter(|&id| keep(id, self.name(id as usize)))
+            .collect();
+        let mut index = FeatureIndex::with_capacity(kept.len());
+        for &id in &kept {
+            let fresh = index.push(self.name(id as usize));
+            debug_assert!(fresh, "an index holds each feature once");
+        }
+        (index, kept)
+    }
+
     /// The number of features, which is one more than the largest id.
     pub fn len(&self) -> usize {
         self.ends.len()
@@ -406,6 +423,19 @@ mod tests {
         assert_eq!(index.get("bias"), Some(0));
         let index = FeatureIndex::from_sentences(&extractor(10), TRAIN);
         assert!(index.is_empty());
+    }
+
+    #[test]
+    fn retain_keeps_the_order_and_maps_the_ids() {
+        let index = FeatureIndex::from_sentences(&extractor(1), TRAIN);
+        let (kept, old) = index.retain(|id, f| id == 0 || f.ends_with('d'));
+        assert_eq!(kept.names(), ["bias", "w=d"]);
+        assert_eq!(old, [0, 4]);
+        assert_eq!(kept.get("w=d"), Some(1));
+        assert_eq!(kept.get("w=a"), None);
+        let (none, old) = index.retain(|_, _| false);
+        assert!(none.is_empty() && old.is_empty());
+        assert_eq!(none.get("bias"), None);
     }
 
     #[test]

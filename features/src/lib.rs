@@ -67,6 +67,7 @@ pub mod config;
 pub mod error;
 pub mod extract;
 pub mod index;
+mod memo;
 pub mod paths;
 
 pub use config::{

@@ -419,6 +419,37 @@ impl Weights {
         }
     }
 
+    /// Whether feature `f` has a nonzero weight for some label.
+    pub fn has_weights(&self, f: usize) -> bool {
+        let mut any = false;
+        self.for_each_entry(f, |_, _| any = true);
+        any
+    }
+
+    /// The weights of the features `kept` (ids in increasing order), which
+    /// become features `0..kept.len()` in that order.
+    pub fn select(&self, kept: &[u32]) -> Weights {
+        let rows = kept.iter().map(|&f| {
+            let mut row = Vec::new();
+            self.for_each_entry(f as usize, |y, w| row.push((y, w)));
+            row
+        });
+        Weights::from_rows(self.labels, rows, self.transitions.clone())
+    }
+
+    /// These weights with the rows of the features `clear` picks emptied.
+    #[cfg(test)]
+    pub(crate) fn cleared(&self, clear: impl Fn(usize) -> bool) -> Weights {
+        let rows = (0..self.features()).map(|f| {
+            let mut row = Vec::new();
+            if !clear(f) {
+                self.for_each_entry(f, |y, w| row.push((y, w)));
+            }
+            row
+        });
+        Weights::from_rows(self.labels, rows, self.transitions.clone())
+    }
+
     /// Adds the weights of `features` to `scores` (one per label).
     #[inline]
     fn add_scores(&self, features: &[u32], scores: &mut [f64]) {
