@@ -394,9 +394,18 @@ impl Extractor {
                         index,
                         word,
                         neighbour_offsets,
-                        window,
                         &mut out.scratch,
                     );
+                    if !window.is_empty() {
+                        let at = entry.path_id.map_or(0, |id| id as usize + 1);
+                        if cache.by_path.len() <= at {
+                            cache.by_path.resize(at + 1, Vec::new());
+                        }
+                        if cache.by_path[at].is_empty() {
+                            cache.by_path[at] =
+                                self.path_entry(index, entry.path_id, window);
+                        }
+                    }
                     cache.entries.push(entry);
                     let k = (cache.entries.len() - 1) as u32;
                     cache.words.insert(word.into(), k);
@@ -464,7 +473,11 @@ impl Extractor {
             }
             for (k, &off) in window.iter().enumerate() {
                 match position(i, off, n) {
-                    Ok(j) => ids.extend_from_slice(&word(j).path[k]),
+                    Ok(j) => {
+                        let at =
+                            word(j).path_id.map_or(0, |id| id as usize + 1);
+                        ids.extend_from_slice(&cache.by_path[at][k])
+                    }
                     Err(edge) if markers => ids.extend(
                         cache.markers[neighbour_offsets.len() + k]
                             [usize::from(edge == "end")],
@@ -608,14 +621,13 @@ impl Extractor {
         out
     }
 
-    /// One word's ids: its own features, and what it gives a token at
-    /// each neighbour offset and each path window offset.
+    /// One word's ids: its own features, what it gives a token at each
+    /// neighbour offset, and its path id (see [`Extractor::path_entry`]).
     fn word_entry(
         &self,
         index: &FeatureIndex,
         word: &str,
         neighbour_offsets: &[i32],
-        window: &[i32],
         scratch: &mut Scratch,
     ) -> WordIds {
         let mut local = Vec::new();
@@ -651,46 +663,59 @@ impl Extractor {
                 index.get(&f)
             })
             .collect();
-        let mut path_feats = Vec::new();
-        let mut path_id = None;
-        if let Some(paths) = &self.paths {
-            let c = &self.config.get().clusters;
-            let id = paths.id_with(word, &mut scratch.key);
-            path_id = id;
-            for &off in window {
-                let mut ids = Vec::new();
-                match id {
-                    None => {
+        let path_id = self
+            .paths
+            .as_ref()
+            .and_then(|paths| paths.id_with(word, &mut scratch.key));
+        WordIds { local, neighbour, path_id, seen }
+    }
+
+    /// The ids a word with path `id` (`None`: a word without one) gives a
+    /// token at each path window offset: they depend on the path alone,
+    /// so they are worked out once per path rather than once per word.
+    fn path_entry(
+        &self,
+        index: &FeatureIndex,
+        id: Option<u32>,
+        window: &[i32],
+    ) -> Vec<Vec<u32>> {
+        let Some(paths) = &self.paths else { return Vec::new() };
+        let c = &self.config.get().clusters;
+        let mut f = String::new();
+        let mut out = Vec::with_capacity(window.len());
+        for &off in window {
+            let mut ids = Vec::new();
+            match id {
+                None => {
+                    f.clear();
+                    f.push_str("path[");
+                    push_offset(off, &mut f);
+                    f.push_str("]:none");
+                    ids.extend(index.get(&f));
+                }
+                Some(id) => {
+                    let path = paths.path_of_id(id);
+                    for &len in &c.prefix_lengths {
+                        f.clear();
+                        let _ = write!(f, "p{len}[");
+                        push_offset(off, &mut f);
+                        f.push_str("]=");
+                        f.push_str(&path[..len.min(path.len())]);
+                        ids.extend(index.get(&f));
+                    }
+                    if c.whole_path {
                         f.clear();
                         f.push_str("path[");
                         push_offset(off, &mut f);
-                        f.push_str("]:none");
+                        f.push_str("]=");
+                        f.push_str(path);
                         ids.extend(index.get(&f));
                     }
-                    Some(id) => {
-                        let path = paths.path_of_id(id);
-                        for &len in &c.prefix_lengths {
-                            f.clear();
-                            let _ = write!(f, "p{len}[");
-                            push_offset(off, &mut f);
-                            f.push_str("]=");
-                            f.push_str(&path[..len.min(path.len())]);
-                            ids.extend(index.get(&f));
-                        }
-                        if c.whole_path {
-                            f.clear();
-                            f.push_str("path[");
-                            push_offset(off, &mut f);
-                            f.push_str("]=");
-                            f.push_str(path);
-                            ids.extend(index.get(&f));
-                        }
-                    }
                 }
-                path_feats.push(ids);
             }
+            out.push(ids);
         }
-        WordIds { local, neighbour, path: path_feats, path_id, seen }
+        out
     }
 
     /// Calls `sink(token_index, feature)` for every feature of every
@@ -1164,6 +1189,9 @@ pub struct IdCache {
     /// Each word's number in `entries`.
     words: rustc_hash::FxHashMap<Box<str>, u32>,
     entries: Vec<WordIds>,
+    /// Per path id + 1 (0: no path), the ids a token gets at each path
+    /// window offset from a word with that path; empty until needed.
+    by_path: Vec<Vec<Vec<u32>>>,
     markers: Vec<[Option<u32>; 2]>,
     /// The ids of the features of cluster sets, columns and
     /// conjunctions seen so far: a POS tag or tag pair recurs on every
@@ -1206,7 +1234,6 @@ impl IdCache {
 struct WordIds {
     local: Vec<u32>,
     neighbour: Vec<Option<u32>>,
-    path: Vec<Vec<u32>>,
     /// The word's path in `[clusters]`, if they are on and have it.
     path_id: Option<u32>,
     /// Whether the index has the word's `w=` feature, or
