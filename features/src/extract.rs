@@ -663,10 +663,8 @@ impl Extractor {
                 index.get(&f)
             })
             .collect();
-        let path_id = self
-            .paths
-            .as_ref()
-            .and_then(|paths| paths.id_with(word, &mut scratch.key));
+        // The walk looked the word's path up.
+        let path_id = scratch.path_ids.first().copied().flatten();
         WordIds { local, neighbour, path_id, seen }
     }
 
