@@ -54,8 +54,6 @@
 //!
 //! [`FeatureConfig::boundary_markers`]: crate::FeatureConfig::boundary_markers
 
-use std::fmt::Write;
-
 use serde::{Deserialize, Serialize};
 
 use crate::config::{Atom, AtomKind, CheckedConfig, FeatureConfig};
@@ -695,7 +693,9 @@ impl Extractor {
                     let path = paths.path_of_id(id);
                     for &len in &c.prefix_lengths {
                         f.clear();
-                        let _ = write!(f, "p{len}[");
+                        f.push('p');
+                        push_number(len, &mut f);
+                        f.push('[');
                         push_offset(off, &mut f);
                         f.push_str("]=");
                         f.push_str(&path[..len.min(path.len())]);
@@ -800,7 +800,9 @@ impl Extractor {
                 let ends = word.char_indices().map(|(k, c)| k + c.len_utf8());
                 for (k, end) in ends.take(lex.char_prefix_max).enumerate() {
                     f.clear();
-                    let _ = write!(f, "pre{}=", k + 1);
+                    f.push_str("pre");
+                    push_number(k + 1, f);
+                    f.push('=');
                     f.push_str(&word[..end]);
                     sink(i, f);
                 }
@@ -810,7 +812,9 @@ impl Extractor {
                 for (k, start) in starts.take(lex.char_suffix_max).enumerate()
                 {
                     f.clear();
-                    let _ = write!(f, "suf{}=", k + 1);
+                    f.push_str("suf");
+                    push_number(k + 1, f);
+                    f.push('=');
                     f.push_str(&word[start..]);
                     sink(i, f);
                 }
@@ -880,7 +884,9 @@ impl Extractor {
                     let path = paths.path_of_id(id);
                     for &len in &c.prefix_lengths {
                         f.clear();
-                        let _ = write!(f, "p{len}[");
+                        f.push('p');
+                        push_number(len, f);
+                        f.push('[');
                         push_offset(off, f);
                         f.push_str("]=");
                         // Paths are ASCII 0s and 1s: any cut is a boundary.
@@ -961,7 +967,10 @@ impl Extractor {
                 let path = paths.path_of_id(id);
                 for &len in &set.prefix_lengths {
                     f.clear();
-                    let _ = write!(f, "{}.p{len}[", set.name);
+                    f.push_str(&set.name);
+                    f.push_str(".p");
+                    push_number(len, f);
+                    f.push('[');
                     push_offset(off, f);
                     f.push_str("]=");
                     f.push_str(&path[..len.min(path.len())]);
@@ -1256,8 +1265,29 @@ fn position(i: usize, off: i32, n: usize) -> Result<usize, &'static str> {
 fn push_offset(off: i32, f: &mut String) {
     if off > 0 {
         f.push('+');
+    } else if off < 0 {
+        f.push('-');
     }
-    let _ = write!(f, "{off}");
+    push_number(off.unsigned_abs() as usize, f);
+}
+
+/// Appends `n` in decimal: what `write!` does, without the formatting
+/// machinery, which cost several per cent of tagging.
+fn push_number(n: usize, f: &mut String) {
+    let mut digits = [0u8; 20];
+    let mut k = digits.len();
+    let mut n = n;
+    loop {
+        k -= 1;
+        digits[k] = b'0' + (n % 10) as u8;
+        n /= 10;
+        if n == 0 {
+            break;
+        }
+    }
+    for &d in &digits[k..] {
+        f.push(char::from(d));
+    }
 }
 
 /// Appends the shape class of `word`: capitals `X`, lowercase letters
@@ -1756,6 +1786,22 @@ mod tests {
             ],
         ];
         assert_eq!(got, want);
+    }
+
+    #[test]
+    fn numbers_and_offsets_are_written_as_format_writes_them() {
+        for n in [0, 1, 9, 10, 99, 100, 12345, usize::MAX] {
+            let mut f = String::from("x");
+            push_number(n, &mut f);
+            assert_eq!(f, format!("x{n}"));
+        }
+        for off in [-5, -1, 0, 1, 5, i32::MIN, i32::MAX] {
+            let mut f = String::new();
+            push_offset(off, &mut f);
+            let want =
+                if off > 0 { format!("+{off}") } else { format!("{off}") };
+            assert_eq!(f, want);
+        }
     }
 
     #[test]
