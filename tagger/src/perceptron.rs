@@ -466,14 +466,15 @@ impl Weights {
             }
             Rows::Dense { features: n, values } => {
                 let labels = self.labels;
+                let scores = &mut scores[..labels];
                 for &f in features {
                     let f = f as usize;
                     if f >= *n {
                         continue;
                     }
-                    let row = &values[f * labels..(f + 1) * labels];
-                    for (s, &w) in scores.iter_mut().zip(row) {
-                        *s += f64::from(w);
+                    let row = &values[f * labels..][..labels];
+                    for y in 0..labels {
+                        scores[y] += f64::from(row[y]);
                     }
                 }
             }
