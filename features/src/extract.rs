@@ -348,8 +348,9 @@ impl Extractor {
     /// further cluster sets are cached by their strings. A conjunction
     /// that joins a word whose `w=` feature the index lacks is not
     /// looked up at all: `index` must be one built from this extractor's
-    /// features (as a model's is), where such a word was never a
-    /// training token.
+    /// features, where such a word was never a training token, and keep
+    /// every feature [`Extractor::needs_feature`] names if it drops any
+    /// (as a model's does).
     ///
     /// # Panics
     ///

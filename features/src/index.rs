@@ -9,7 +9,7 @@
 //!
 //! Memory: while counting, each distinct feature costs its bytes plus
 //! about 40 bytes; the frozen index keeps the kept features once, one
-//! after another, with 8 bytes of end offset and 12 to 24 bytes of hash
+//! after another, with 8 bytes of end offset and about 12 bytes of hash
 //! table each.
 
 use rustc_hash::FxHashMap;

@@ -449,10 +449,11 @@ impl TaggerModel {
     /// the extractor needs ([`Extractor::needs_feature`]); no score
     /// changes. Most features of a rich config have none: a feature gets
     /// a weight only when a training mistake touches it, and an easy task
-    /// makes few. With the chunking config on 950,000 tokens, 98 % of
-    /// the features went, which makes the model file and its loading
-    /// many times smaller and faster, and keeps the index in the
-    /// processor's caches while tagging.
+    /// makes few. With `configs/chunk.toml` on the 945,561 tokens of the
+    /// Brown chunk walkthrough, 85 % of the 1.58 M features had none:
+    /// dropping them makes the model file four times smaller, its loading
+    /// six times faster, and keeps the index in the processor's caches
+    /// while tagging.
     fn drop_unweighted(&mut self) {
         let (features, kept) = self.features.retain(|id, feature| {
             self.weights.has_weights(id as usize)
