@@ -23,19 +23,7 @@ trap 'rm -rf "$work"' EXIT
 "$bin" tag --model "$d/pos.bin" --plain --tokenize "$prose" --out "$work/prose.conll"
 # The first sentence of the test split, to time the model's load.
 awk '!NF { exit } { print }' "$d/chunk-test.conll" > "$work/one.conll"
-# Seconds of the fastest of $runs runs of "$@".
-fastest() {
-    local best=""
-    for _ in $(seq "$runs"); do
-        local start end t
-        start=$(date +%s.%N)
-        "$@"
-        end=$(date +%s.%N)
-        t=$(awk -v a="$start" -v b="$end" 'BEGIN {print b - a}')
-        best=$(awk -v a="$t" -v b="$best" 'BEGIN {print (b == "" || a < b) ? a : b}')
-    done
-    echo "$best"
-}
+source scripts/timing.sh
 rate() { # tokens seconds
     awk -v t="$1" -v s="$2" 'BEGIN {printf "%.0f", t / s}'
 }

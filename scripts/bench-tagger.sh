@@ -33,19 +33,7 @@ done
 
 echo "| task | features | decoder | train tokens/s per epoch | tag tokens/s | tag tokens/s, model load excluded |"
 echo "|---|---|---|---:|---:|---:|"
-# Seconds of the fastest of $runs runs of "$@".
-fastest() {
-    local best=""
-    for _ in $(seq "$runs"); do
-        local start end
-        start=$(date +%s.%N)
-        "$@"
-        end=$(date +%s.%N)
-        best=$(awk -v a="$start" -v b="$end" -v c="$best" \
-            'BEGIN {t = b - a; print (c == "" || t < c) ? t : c}')
-    done
-    echo "$best"
-}
+source scripts/timing.sh
 run() { # name train dev test config clusters epochs
     local name=$1 train=$2 dev=$3 test=$4 config=$5 clusters=$6 epochs=$7
     local log=$work/train.log
